@@ -1,0 +1,392 @@
+/**
+ * The demo scenario of DESIGN.md §9 — invented, every name and number. "Fernhill Precision"
+ * runs four mills; "Quarry Road Tool" exists to prove that shops never see each other.
+ *
+ * Readings are raw machine-coordinate Z values (negative: Z homes at the top of travel,
+ * common shop practice) of the spindle gauge line with the tool tip on the reference surface,
+ * sometimes through a gauge block (`block`), which the offset maths subtracts.
+ */
+export const DEMO_PASSWORD = 'datumkeep-demo';
+
+export type Role = 'owner' | 'admin' | 'lead' | 'operator';
+
+export interface DemoPerson {
+	name: string;
+	email: string;
+	role: Role;
+}
+
+export interface DemoTool {
+	t: number;
+	h: number;
+	description: string;
+	holder: string;
+	stickout: number;
+	/** Touch-offs, oldest first: days ago, raw machine Z, block height under the tip. */
+	touches: { daysAgo: number; z: number; block?: number; toolChanged?: boolean; reason?: string }[];
+}
+
+export interface DemoFixture {
+	register: string;
+	name: string;
+	description: string;
+	/** Part-top touch: days ago, raw machine Z, and which tool (T) touched it. */
+	partTop: { daysAgo: number; z: number; withTool: number };
+}
+
+export interface DemoMachine {
+	name: string;
+	units: 'inch' | 'mm';
+	zTravel: number;
+	resolution: number;
+	controlStyle: 'rs274ngc' | 'iso';
+	convention: 'reference-touch' | 'gauge-length';
+	notes: string;
+	references: {
+		daysAgo: number;
+		instrument: '1-2-3 block' | 'gauge block' | 'tool setter' | 'other';
+		height: number;
+		location: string;
+		gaugeLineZ?: number;
+		note: string;
+	}[];
+	fixtures: DemoFixture[];
+	tools: DemoTool[];
+	setups: {
+		name: string;
+		job: string;
+		status: 'planned' | 'running' | 'done';
+		margin: number;
+		fixtures: { register: string; obstacle: number }[];
+		tools: number[];
+		ops: { name: string; register: string }[];
+	}[];
+}
+
+export interface DemoShop {
+	name: string;
+	slug: string;
+	timeZone: string;
+	people: DemoPerson[];
+	machines: DemoMachine[];
+}
+
+export const demoShops: DemoShop[] = [
+	{
+		name: 'Fernhill Precision',
+		slug: 'fernhill-precision',
+		timeZone: 'America/Chicago',
+		people: [
+			{ name: 'Ada Brennan', email: 'ada@fernhill.example', role: 'owner' },
+			{ name: 'Tomas Reyes', email: 'tomas@fernhill.example', role: 'admin' },
+			{ name: 'Keiko Hart', email: 'keiko@fernhill.example', role: 'lead' },
+			{ name: 'Omar Lindqvist', email: 'omar@fernhill.example', role: 'operator' },
+			{ name: 'Bea Novak', email: 'bea@fernhill.example', role: 'operator' }
+		],
+		machines: [
+			{
+				name: 'Mill 1',
+				units: 'inch',
+				zTravel: 20,
+				resolution: 0.0001,
+				controlStyle: 'iso',
+				convention: 'reference-touch',
+				notes: 'Pump housing cell. Reference block lives at the front-left corner of the table.',
+				references: [
+					{
+						daysAgo: 41,
+						instrument: '1-2-3 block',
+						height: 3,
+						location: 'Table front-left, bolted down',
+						note: 'Set after the table was re-trammed.'
+					}
+				],
+				fixtures: [
+					{
+						register: 'G54',
+						name: 'Op A — 6 in vise',
+						description: 'Pump housing rough stock in soft jaws',
+						partTop: { daysAgo: 2, z: -13.0296, withTool: 1 }
+					},
+					{
+						register: 'G55',
+						name: 'Op B — fixture plate',
+						description: 'Pump housing flipped, located on two dowels',
+						partTop: { daysAgo: 2, z: -14.7791, withTool: 1 }
+					}
+				],
+				tools: [
+					{
+						t: 1,
+						h: 1,
+						description: '3.0 in face mill',
+						holder: 'CAT40 shell mill arbor',
+						stickout: 1.75,
+						touches: [{ daysAgo: 12, z: -15.8421 }]
+					},
+					{
+						t: 2,
+						h: 2,
+						description: '1/2 in 3-flute end mill',
+						holder: 'CAT40 shrink fit',
+						stickout: 1.375,
+						touches: [
+							{ daysAgo: 20, z: -14.6215 },
+							{
+								daysAgo: 3,
+								z: -14.7502,
+								toolChanged: true,
+								reason: 'End mill chipped on op A; replaced with a new one.'
+							}
+						]
+					},
+					{
+						t: 3,
+						h: 3,
+						description: '#7 jobber drill',
+						holder: 'CAT40 ER32 collet',
+						stickout: 3.25,
+						touches: [{ daysAgo: 12, z: -13.8877, block: 0.1 }]
+					},
+					{
+						t: 4,
+						h: 4,
+						description: '1/4-20 spiral point tap',
+						holder: 'CAT40 tapping head',
+						stickout: 2.5,
+						touches: [{ daysAgo: 12, z: -14.3104 }]
+					},
+					{
+						t: 5,
+						h: 5,
+						description: '3/8 in 90° spot drill',
+						holder: 'CAT40 ER32 collet',
+						stickout: 1.5,
+						touches: [{ daysAgo: 12, z: -15.1029 }]
+					}
+				],
+				setups: [
+					{
+						name: 'Pump housing, ops A and B',
+						job: 'Job 4471 — pump housing PH-220, 40 pcs',
+						status: 'running',
+						margin: 0.5,
+						fixtures: [
+							{ register: 'G54', obstacle: 3.125 },
+							{ register: 'G55', obstacle: 1.875 }
+						],
+						tools: [1, 2, 3, 4, 5],
+						ops: [
+							{ name: 'Op A — face, pocket, drill', register: 'G54' },
+							{ name: 'Op B — back face and tap', register: 'G55' }
+						]
+					}
+				]
+			},
+			{
+				name: 'Mill 2',
+				units: 'inch',
+				zTravel: 20,
+				resolution: 0.0001,
+				controlStyle: 'iso',
+				convention: 'reference-touch',
+				notes: 'Aluminium work. Block was knocked on Monday and re-set.',
+				references: [
+					{
+						daysAgo: 60,
+						instrument: '1-2-3 block',
+						height: 3,
+						location: 'Table rear-right',
+						note: 'Original position.'
+					},
+					{
+						daysAgo: 3,
+						instrument: '1-2-3 block',
+						height: 3,
+						location: 'Table rear-right',
+						note: 'Block knocked by a chip conveyor hose; re-seated and re-established.'
+					}
+				],
+				fixtures: [
+					{
+						register: 'G54',
+						name: 'Bracket — 6 in vise',
+						description: '6061 bracket, 1.5 in above the jaws',
+						partTop: { daysAgo: 9, z: -12.4483, withTool: 1 }
+					}
+				],
+				tools: [
+					{
+						t: 1,
+						h: 1,
+						description: '1/2 in 2-flute end mill (aluminium)',
+						holder: 'CAT40 ER32 collet',
+						stickout: 1.25,
+						touches: [{ daysAgo: 9, z: -14.2733 }]
+					},
+					{
+						t: 6,
+						h: 6,
+						description: '1/4 in drill',
+						holder: 'CAT40 drill chuck',
+						stickout: 2.75,
+						touches: [{ daysAgo: 2, z: -13.5018 }]
+					}
+				],
+				setups: [
+					{
+						name: 'Aluminium bracket',
+						job: 'Job 4478 — bracket BR-12, 120 pcs',
+						status: 'running',
+						margin: 0.5,
+						fixtures: [{ register: 'G54', obstacle: 2.25 }],
+						tools: [1, 6],
+						ops: [{ name: 'Op 1 — profile and drill', register: 'G54' }]
+					}
+				]
+			},
+			{
+				name: 'Mill 3',
+				units: 'mm',
+				zTravel: 510,
+				resolution: 0.001,
+				controlStyle: 'rs274ngc',
+				convention: 'gauge-length',
+				notes: 'Metric work. Tool lengths measured from the gauge line.',
+				references: [
+					{
+						daysAgo: 25,
+						instrument: 'tool setter',
+						height: 50,
+						location: 'Table left end',
+						gaugeLineZ: -402.315,
+						note: 'Gauge-line Z found with the 100.000 mm reference bar.'
+					}
+				],
+				fixtures: [
+					{
+						register: 'G54',
+						name: 'Flange — 3-jaw chuck on the table',
+						description: 'Flange FL-80, part top about 45 mm above the setter',
+						partTop: { daysAgo: 5, z: -244.625, withTool: 1 }
+					}
+				],
+				tools: [
+					{
+						t: 1,
+						h: 1,
+						description: '80 mm face mill',
+						holder: 'BT40 shell mill arbor',
+						stickout: 45,
+						touches: [{ daysAgo: 5, z: -289.835 }]
+					},
+					{
+						t: 2,
+						h: 2,
+						description: '10 mm 4-flute end mill',
+						holder: 'BT40 hydraulic chuck',
+						stickout: 38,
+						touches: [{ daysAgo: 5, z: -271.108 }]
+					},
+					{
+						t: 3,
+						h: 3,
+						description: '8.5 mm drill',
+						holder: 'BT40 ER32 collet',
+						stickout: 70,
+						touches: [{ daysAgo: 5, z: -255.902 }]
+					}
+				],
+				setups: [
+					{
+						name: 'Metric flange',
+						job: 'Job 4480 — flange FL-80, 25 pcs',
+						status: 'planned',
+						margin: 12,
+						fixtures: [{ register: 'G54', obstacle: 61 }],
+						tools: [1, 2, 3],
+						ops: [{ name: 'Op 1 — face, bore and drill', register: 'G54' }]
+					}
+				]
+			},
+			{
+				name: 'Mill 4',
+				units: 'inch',
+				zTravel: 25,
+				resolution: 0.0001,
+				controlStyle: 'iso',
+				convention: 'reference-touch',
+				notes: 'Big-envelope mill; idle between jobs.',
+				references: [
+					{
+						daysAgo: 120,
+						instrument: 'gauge block',
+						height: 2,
+						location: 'Table centre T-slot',
+						note: 'Grade 0 block on a parallel.'
+					}
+				],
+				fixtures: [],
+				tools: [
+					{
+						t: 10,
+						h: 10,
+						description: '1 in indexable end mill',
+						holder: 'CAT50 end mill holder',
+						stickout: 3,
+						touches: [{ daysAgo: 95, z: -17.6102 }]
+					}
+				],
+				setups: []
+			}
+		]
+	},
+	{
+		name: 'Quarry Road Tool',
+		slug: 'quarry-road-tool',
+		timeZone: 'America/New_York',
+		people: [
+			{ name: 'Nils Ferreira', email: 'nils@quarryroad.example', role: 'owner' },
+			{ name: 'June Okafor', email: 'june@quarryroad.example', role: 'operator' }
+		],
+		machines: [
+			{
+				name: 'VMC A',
+				units: 'inch',
+				zTravel: 16,
+				resolution: 0.0001,
+				controlStyle: 'rs274ngc',
+				convention: 'reference-touch',
+				notes: 'Die shoe work.',
+				references: [
+					{
+						daysAgo: 10,
+						instrument: 'tool setter',
+						height: 2,
+						location: 'Table right end',
+						note: 'Electronic setter, 2.0000 in body.'
+					}
+				],
+				fixtures: [
+					{
+						register: 'G54',
+						name: 'Die shoe on parallels',
+						description: 'Quarry Road job',
+						partTop: { daysAgo: 1, z: -9.2052, withTool: 1 }
+					}
+				],
+				tools: [
+					{
+						t: 1,
+						h: 1,
+						description: '3/4 in end mill',
+						holder: 'CAT40 end mill holder',
+						stickout: 2,
+						touches: [{ daysAgo: 1, z: -11.4011 }]
+					}
+				],
+				setups: []
+			}
+		]
+	}
+];

@@ -1,0 +1,60 @@
+import type { Knex } from 'knex';
+import { publicMigrations } from '$migrations/public/index';
+import { shopMigrations } from '$migrations/shop/index';
+import { assertShopSchema } from './schema-name';
+
+/** Feeds Knex's migrator from a static list, so the same code runs under tsx and in the build. */
+function staticSource(list: Record<string, Knex.Migration>): Knex.MigrationSource<string> {
+	return {
+		getMigrations: async () => Object.keys(list).sort(),
+		getMigrationName: (name) => name,
+		getMigration: async (name) => list[name]
+	};
+}
+
+/** Migrates the `public` schema (shops, users, memberships, …). Returns the names it ran. */
+export async function migratePublic(knex: Knex): Promise<string[]> {
+	const [, ran] = await knex.migrate.latest({
+		migrationSource: staticSource(publicMigrations),
+		schemaName: 'public'
+	});
+	return ran as string[];
+}
+
+/**
+ * Creates (if needed) and migrates one shop schema inside the caller's transaction, so the
+ * caller decides whether it commits together with, say, the new shop's row. Each schema keeps
+ * its own knex_migrations table.
+ */
+export async function migrateShopSchema(trx: Knex.Transaction, schema: string): Promise<string[]> {
+	assertShopSchema(schema);
+	await trx.raw('create schema if not exists ??', [schema]);
+	await trx.raw('set local search_path to ??, public', [schema]);
+	const [, ran] = await trx.migrate.latest({
+		migrationSource: staticSource(shopMigrations),
+		schemaName: schema
+	});
+	await trx.raw('set local search_path to public');
+	return ran as string[];
+}
+
+/** Migrates `public`, then every shop schema, each in its own transaction. */
+export async function migrateAll(
+	knex: Knex
+): Promise<{ public: string[]; shops: Record<string, string[]> }> {
+	const pub = await migratePublic(knex);
+	const shops: Record<string, string[]> = {};
+	const rows: { schema_name: string }[] = await knex('shops')
+		.whereNotNull('schema_name')
+		.select('schema_name')
+		.orderBy('id');
+	for (const { schema_name } of rows) {
+		shops[schema_name] = await knex.transaction((trx) => migrateShopSchema(trx, schema_name));
+	}
+	return { public: pub, shops };
+}
+
+export const migrationNames = {
+	public: () => Object.keys(publicMigrations).sort(),
+	shop: () => Object.keys(shopMigrations).sort()
+};

@@ -1,0 +1,26 @@
+import type { Knex } from 'knex';
+import { db } from './index';
+import { assertShopSchema } from './schema-name';
+
+/** What a shop query needs to know about its shop: which schema holds its data. */
+export interface ShopRef {
+	id: number;
+	schemaName: string;
+}
+
+/**
+ * Runs `fn` in a transaction whose search path is the shop's own schema (then `public`), so
+ * `trx('machines')` can only ever mean this shop's machines. This is the only way server code
+ * reaches shop tables: a shop query cannot be written without naming the shop.
+ */
+export async function withShop<T>(
+	shop: ShopRef,
+	fn: (trx: Knex.Transaction) => Promise<T>,
+	conn: Knex = db()
+): Promise<T> {
+	assertShopSchema(shop.schemaName);
+	return conn.transaction(async (trx) => {
+		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+		return fn(trx);
+	});
+}
