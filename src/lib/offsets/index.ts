@@ -1,0 +1,89 @@
+/**
+ * Datumkeep's offset engine: pure TypeScript, no framework, database, DOM or I/O.
+ * Entry points and shapes follow DESIGN.md §4; every entry point throws OffsetInputError
+ * (field, value, why) on input it cannot use. See docs/OFFSETS.md.
+ */
+export { OffsetInputError, isOffsetInputError, type OffsetIssue } from './errors';
+export {
+	UNITS,
+	MM_PER_INCH,
+	DEFAULT_RESOLUTION,
+	UNIT_LABEL,
+	toUnits,
+	roundToResolution,
+	toIncrements,
+	fromIncrements,
+	resolutionFor,
+	type Units
+} from './units';
+export { formatLength, formatWithUnits, decimalsFor } from './format';
+export {
+	canonicalRegister,
+	canonicalH,
+	sortRegisters,
+	STANDARD_WORK_REGISTERS,
+	MAX_EXTENDED_REGISTER,
+	MAX_H_NUMBER
+} from './registers';
+export {
+	CONVENTIONS,
+	CONVENTION_LABEL,
+	EXPECTED_SIGN,
+	REFERENCE_DEPENDENCE,
+	type Convention,
+	type PhysicalGeometry
+} from './conventions';
+export * from './schemas';
+export type {
+	OffsetTable,
+	Machine,
+	ControlStyle,
+	PolicyInput,
+	HistoryEntry,
+	Setup,
+	CheckInput,
+	ConversionGeometry,
+	Timestamp
+} from './types';
+export { travelLimits, normalizeTable } from './table';
+export { spindleZ } from './spindle';
+export { convertTable, convertTableUnits, tableFromGeometry } from './convert';
+export {
+	referenceGaugeLineZFromTouch,
+	toolOffsetFromTouch,
+	zeroHeightFromReadings,
+	workOffsetZFromReadings,
+	workOffsetZFromRelative,
+	workOffsetZFromPartTouch,
+	reestablishReference,
+	type ReestablishResult
+} from './readings';
+export { DEFAULT_POLICY, resolvePolicy, type Policy } from './policy';
+export {
+	TABLE_FINDING_KINDS,
+	PROGRAM_FINDING_KINDS,
+	FINDING_KINDS,
+	findingKey,
+	subjectKey,
+	makeFinding,
+	sortFindings,
+	findingSchema,
+	type Finding,
+	type FindingKind,
+	type TableFindingKind,
+	type ProgramFindingKind,
+	type FindingSubject,
+	type FindingStatus,
+	type Severity
+} from './findings';
+export { checkOffsets } from './check';
+export { clearancePlanes, tallestObstacle } from './clearance';
+export {
+	loadProgram,
+	CONTROL_STYLE_LABEL,
+	LOAD_PROGRAM_CAUTIONS,
+	type LoadProgramOptions
+} from './load-program';
+export { parseLoadProgram } from './parse-load-program';
+export { gaugeStack } from './gauge-blocks';
+export { GAUGE_SETS, findGaugeSet, gaugeSetBlocks, type GaugeSet } from './gauge-sets';

@@ -1,0 +1,120 @@
+/**
+ * The load program: a G10 program that writes a machine's Z offsets so nobody types them by
+ * hand. Work offsets by `G10 L2 P1–P6` (G54–G59; NISTIR 6556 §3.5.5: G10 L2 sets the
+ * system's origin in machine coordinates and only the axes given change — we give Z only).
+ * Tool lengths in the machine's control style, named in our own words:
+ * - 'rs274ngc', shown as "RS274NGC-style (G10 L1)": `G10 L1 P<tool> Z<length>`;
+ *   no G54.1 P registers (its L2 P7–P9 are G59.1–G59.3), so a table using them is refused.
+ * - 'iso', shown as "ISO-style (G10 L10)": `G10 L10 P<H> R<length>` (length geometry),
+ *   and `G10 L20 P<n> Z…` for G54.1 Pn. Under G91 these add, so we always write G90.
+ */
+import { OffsetInputError, type OffsetIssue } from './errors';
+import { formatLength } from './format';
+import { extendedNumber, STANDARD_WORK_REGISTERS } from './registers';
+import { loadProgramOptionsSchema } from './schemas';
+import { machineName, normalizeTable, parseMachine, travelLimits } from './table';
+import type { ControlStyle, Machine, OffsetTable } from './types';
+import { convertTableUnits } from './convert';
+import { resolutionFor, toMicro } from './units';
+import { parseInput } from './validate';
+import type { z } from 'zod';
+
+/** Labels for the two control styles, for pickers and the program header. */
+export const CONTROL_STYLE_LABEL: Readonly<Record<ControlStyle, string>> = {
+	rs274ngc: 'RS274NGC-style (G10 L1)',
+	iso: 'ISO-style (G10 L10)'
+};
+
+/** The cautions written at the top of every load program (our own words). */
+export const LOAD_PROGRAM_CAUTIONS = [
+	'CHECK EVERY VALUE ON THE CONTROL SCREEN BEFORE CUTTING',
+	'FIRST RUN IN SINGLE BLOCK WITH RAPID AND FEED TURNED DOWN',
+	'LIFT CLEAR IN Z BEFORE MOVING BETWEEN FIXTURES',
+	'FOLLOW THE MACHINE BUILDER MANUAL AND YOUR SHOP PRACTICE',
+	'ONLY Z IS WRITTEN - X AND Y OFFSETS STAY AS THEY ARE'
+] as const;
+
+/** Options of loadProgram. */
+export type LoadProgramOptions = z.infer<typeof loadProgramOptionsSchema>;
+
+/** Comment text safe on any control: upper case, no parentheses, plain characters. */
+export function commentText(text: string): string {
+	return text
+		.toUpperCase()
+		.replace(/[^A-Z0-9 .,:=+\-/#]/g, ' ')
+		.replace(/\s+/g, ' ')
+		.trim();
+}
+
+/** The G10 words that write one work register, or an issue when the style has no such form. */
+function workWords(style: ControlStyle, register: string): string | null {
+	const std = STANDARD_WORK_REGISTERS.indexOf(register as (typeof STANDARD_WORK_REGISTERS)[number]);
+	if (std >= 0) return `G10 L2 P${std + 1}`;
+	const n = extendedNumber(register);
+	if (n !== null && style === 'iso') return `G10 L20 P${n}`;
+	return null;
+}
+
+/**
+ * Writes the load program for `table` on `machine`. Values are rounded to the machine's
+ * resolution (half away from zero) and written with fixed decimals, always with a decimal
+ * point (common shop practice: some controls read a number without one as increments).
+ * A table in the other unit is converted to the machine's unit first.
+ * @throws OffsetInputError when the table's convention differs from the machine's, a register
+ *   has no form in the machine's control style, or a value is beyond the machine's Z travel
+ */
+export function loadProgram(machine: Machine, table: OffsetTable, options: LoadProgramOptions = {}): string {
+	const m = parseMachine(machine);
+	let t = normalizeTable(table);
+	const o = parseInput(loadProgramOptionsSchema, options ?? {}, 'options');
+	const style: ControlStyle = m.controlStyle ?? 'rs274ngc';
+	const resolution = resolutionFor(m.units, m.resolution);
+	if (m.convention !== undefined && m.convention !== t.convention) {
+		throw OffsetInputError.of('table.convention', t.convention, `differs from ${machineName(m)}, which uses ${m.convention}: convert the table before loading it`);
+	}
+	const converted = t.units !== m.units;
+	if (converted) t = convertTableUnits(t, m.units, resolution);
+	if (t.convention === 'master-tool' && t.masterTool !== undefined && !(t.masterTool in t.tools)) {
+		// write the master's 0 too, so the control cannot keep an old value there
+		t = { ...t, tools: Object.fromEntries(Object.entries({ ...t.tools, [t.masterTool]: 0 }).sort(([a], [b]) => Number(a) - Number(b))) };
+	}
+
+	const { min, max } = travelLimits(m);
+	const span = toMicro(max) - toMicro(min);
+	const issues: OffsetIssue[] = [];
+	const fmt = (v: number) => formatLength(v, m.units, resolution);
+	const body: string[] = [];
+	if (Object.keys(t.work).length > 0) body.push('(WORK OFFSETS Z)');
+	for (const [register, value] of Object.entries(t.work)) {
+		const words = workWords(style, register);
+		if (words === null) {
+			issues.push({ field: `table.work.${register}`, value, message: `cannot be written for an ${CONTROL_STYLE_LABEL[style]} control: it has no G54.1 P registers (its G10 L2 P7–P9 are G59.1–G59.3). Use G54–G59 or set the machine to ISO-style.` });
+			continue;
+		}
+		if (Math.abs(toMicro(value)) > span) issues.push({ field: `table.work.${register}`, value, message: `is beyond the Z travel of ${machineName(m)} (${fmt(max - min)} ${m.units})` });
+		body.push(`${words} Z${fmt(value)}`);
+	}
+	if (Object.keys(t.tools).length > 0) body.push('(TOOL LENGTH OFFSETS)');
+	for (const [h, value] of Object.entries(t.tools)) {
+		if (Math.abs(toMicro(value)) > span) issues.push({ field: `table.tools.${h}`, value, message: `is beyond the Z travel of ${machineName(m)} (${fmt(max - min)} ${m.units})` });
+		body.push(style === 'iso' ? `G10 L10 P${h} R${fmt(value)}` : `G10 L1 P${h} Z${fmt(value)}`);
+	}
+	if (issues.length > 0) throw new OffsetInputError(issues);
+
+	const lines: string[] = [];
+	const framed = o.percentFraming ?? true;
+	if (framed) lines.push('%');
+	if (o.programNumber !== undefined) lines.push(`O${String(o.programNumber).padStart(4, '0')}`);
+	lines.push(`(${commentText(`DATUMKEEP LOAD PROGRAM ${o.title ?? m.name ?? ''}`)})`);
+	lines.push(`(STYLE ${style === 'iso' ? 'ISO' : 'RS274NGC'})`);
+	lines.push(`(CONVENTION ${t.convention.toUpperCase()})`);
+	if (t.convention === 'master-tool' && t.masterTool !== undefined) lines.push(`(MASTER TOOL H${t.masterTool})`);
+	if (converted) lines.push(`(VALUES CONVERTED FROM ${table.units.toUpperCase()} TO ${m.units.toUpperCase()})`);
+	for (const c of LOAD_PROGRAM_CAUTIONS) lines.push(`(${c})`);
+	if (style === 'iso') lines.push('(LENGTH WEAR IS NOT CHANGED - CHECK IT IS ZERO OR STILL RIGHT)');
+	lines.push(`${m.units === 'inch' ? 'G20' : 'G21'} G90`);
+	lines.push(...body);
+	lines.push('M30');
+	if (framed) lines.push('%');
+	return `${lines.join('\n')}\n`;
+}
