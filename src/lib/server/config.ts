@@ -10,8 +10,15 @@ export const config = {
 	get redisUrl(): string {
 		return process.env.REDIS_URL ?? 'redis://127.0.0.1:63799/0';
 	},
-	get fakeSesUrl(): string {
-		return process.env.SES_ENDPOINT ?? `http://127.0.0.1:${process.env.FAKE_SES_PORT ?? 4579}`;
+	/** SES endpoint: SES_ENDPOINT, else the local fake when FAKE_SES_PORT is set, else AWS. */
+	get sesEndpoint(): string | undefined {
+		if (process.env.SES_ENDPOINT) return process.env.SES_ENDPOINT;
+		if (process.env.FAKE_SES_PORT) return `http://127.0.0.1:${process.env.FAKE_SES_PORT}`;
+		return undefined;
+	},
+	/** Public base URL of the app, for links in e-mails. */
+	get origin(): string {
+		return process.env.ORIGIN ?? `http://127.0.0.1:${process.env.PORT ?? 5173}`;
 	},
 	/** Set to 1 to let migrate/seed touch a database that is not on this machine. */
 	get allowRemoteDatabase(): boolean {

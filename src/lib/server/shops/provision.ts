@@ -22,7 +22,7 @@ export interface ProvisionedShop {
  * no row, no schema.
  */
 export async function provisionShop(
-	knex: Knex,
+	knex: Knex | Knex.Transaction,
 	shop: NewShop,
 	inside?: (trx: Knex.Transaction, created: ProvisionedShop) => Promise<void>
 ): Promise<ProvisionedShop> {

@@ -1,0 +1,37 @@
+#!/usr/bin/env bash
+# `npm start`: everything a newcomer needs, then the app in development mode.
+# Installs what is missing (Debian's PostgreSQL and Redis, npm packages), starts the services
+# on loopback, creates and migrates the database, loads the demo shops when it is empty,
+# starts the local fakes (SES, Stripe) and the worker, and serves the app.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+
+if [ ! -f .env ]; then
+	secret="$(node -e "process.stdout.write(require('crypto').randomBytes(33).toString('base64'))")"
+	sed "s|^AUTH_SECRET=.*|AUTH_SECRET=$secret|; s|^DATUMKEEP_DEV_MAILBOX=.*|DATUMKEEP_DEV_MAILBOX=1|" .env.example > .env
+	echo "datumkeep: wrote .env from .env.example with a fresh AUTH_SECRET"
+fi
+. scripts/env.sh
+
+port_in_use "$PORT" && die "port $PORT is already in use (is Datumkeep already running?). Stop it or set PORT in .env."
+
+need_node_modules
+bash scripts/services.sh up
+npx tsx scripts/create-db.ts
+npx tsx scripts/migrate.ts
+npx tsx scripts/seed.ts
+
+mkdir -p .data
+export FAKE_SES_STORE="${FAKE_SES_STORE:-$ROOT/.data/fake-ses.jsonl}"
+export STRIPE_WEBHOOK_URL="${STRIPE_WEBHOOK_URL:-http://127.0.0.1:$PORT/api/v1/stripe/webhook}"
+pids=()
+cleanup() { for p in "${pids[@]}"; do kill "$p" 2>/dev/null || true; done; wait 2>/dev/null || true; }
+trap cleanup EXIT INT TERM
+
+npx tsx fakes/index.ts & pids+=($!)
+if [ -f workers/index.ts ]; then npx tsx workers/index.ts & pids+=($!); fi
+
+npx tsx scripts/banner.ts
+npx vite dev --host 127.0.0.1 --port "$PORT" --strictPort &
+pids+=($!)
+wait "${pids[-1]}"

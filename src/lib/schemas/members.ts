@@ -1,0 +1,19 @@
+import { z } from 'zod';
+import { ROLES } from '$lib/permissions';
+import { emailField, newPasswordField } from './auth';
+
+const roleField = z.enum(ROLES, { message: `Role must be one of: ${ROLES.join(', ')}.` });
+
+export const inviteSchema = z.object({ email: emailField, role: roleField.default('operator') });
+export const changeRoleSchema = z.object({
+	membershipId: z.coerce.number().int().positive('Unknown member.'),
+	role: roleField
+});
+export const removeMemberSchema = z.object({ membershipId: z.coerce.number().int().positive('Unknown member.') });
+export const invitationIdSchema = z.object({ invitationId: z.coerce.number().int().positive('Unknown invitation.') });
+
+/** Accepting an invitation: a name and password only when the e-mail has no account yet. */
+export const acceptInvitationSchema = z.object({
+	name: z.string().trim().max(120, 'Name too long (120 characters at most).').default(''),
+	password: z.union([z.literal(''), newPasswordField]).default('')
+});

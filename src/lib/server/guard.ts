@@ -1,0 +1,42 @@
+import { error, redirect, type RequestEvent } from '@sveltejs/kit';
+import { can, type Capability, type Role } from '$lib/permissions';
+import { db } from './db';
+import { findMembership, type ShopRow } from './shops/queries';
+
+export interface Member {
+	user: { id: number; email: string; name: string };
+	shop: ShopRow;
+	role: Role;
+}
+
+const isApi = (event: RequestEvent) => event.url.pathname.startsWith('/api/');
+
+/** The signed-in user, or a redirect to sign-in (pages) / 401 (API). */
+export function requireUser(event: RequestEvent): NonNullable<App.Locals['user']> {
+	const user = event.locals.user;
+	if (!user) {
+		if (isApi(event)) error(401, 'Sign in first.');
+		redirect(303, `/signin?next=${encodeURIComponent(event.url.pathname + event.url.search)}`);
+	}
+	return user;
+}
+
+/**
+ * The one guard for shop data: every load, form action and API route under a shop calls it.
+ * Not a member (or no such shop) → 404, so a shop's existence is not revealed; a member whose
+ * role lacks the capability → 403.
+ */
+export async function requireMember(
+	event: RequestEvent,
+	capability: Capability = 'shop.read'
+): Promise<Member> {
+	const user = requireUser(event);
+	const slug = event.params.shop;
+	if (!slug) error(404, 'Not found');
+	const membership = await findMembership(db(), user.id, slug);
+	if (!membership) error(404, 'Not found');
+	if (!can(membership.role, capability)) {
+		error(403, 'Your role in this shop does not allow this.');
+	}
+	return { user, shop: membership.shop, role: membership.role };
+}

@@ -1,0 +1,116 @@
+import type { Knex } from 'knex';
+import type { Role } from '$lib/permissions';
+import { audit } from '../audit';
+import { withShop, type ShopRef } from '../db/tenant';
+import type { Actor } from './invitations';
+
+export interface MemberView {
+	membershipId: number;
+	userId: number;
+	name: string;
+	email: string;
+	role: Role;
+	since: string;
+}
+
+export async function listMembers(knex: Knex, shopId: number): Promise<MemberView[]> {
+	const rows = await knex('public.memberships as m')
+		.join('public.users as u', 'u.id', 'm.user_id')
+		.where('m.shop_id', shopId)
+		.orderByRaw("array_position(array['owner','admin','lead','operator'], m.role), u.name")
+		.select('m.id', 'u.id as user_id', 'u.name', 'u.email', 'm.role', 'm.created_at');
+	return rows.map((r) => ({
+		membershipId: Number(r.id),
+		userId: Number(r.user_id),
+		name: r.name,
+		email: r.email,
+		role: r.role,
+		since: new Date(r.created_at).toISOString()
+	}));
+}
+
+export type MemberChangeResult = { ok: true } | { ok: false; message: string };
+
+/**
+ * Changes a member's role. Rules: only an owner may make someone an owner or change an owner's
+ * role (ownership is the owner's to give), and the shop always keeps at least one owner. The
+ * owner count is read under a row lock so two demotions cannot both pass.
+ */
+export async function changeRole(
+	knex: Knex,
+	shop: ShopRef,
+	membershipId: number,
+	newRole: Role,
+	by: Actor & { role: Role },
+	ip = ''
+): Promise<MemberChangeResult> {
+	return knex.transaction(async (trx) => {
+		const owners = await trx('public.memberships').where({ shop_id: shop.id, role: 'owner' }).forUpdate().select('id');
+		const target = await trx('public.memberships as m')
+			.join('public.users as u', 'u.id', 'm.user_id')
+			.where({ 'm.id': membershipId, 'm.shop_id': shop.id })
+			.first('m.role', 'u.email');
+		if (!target) return { ok: false, message: 'That person is not a member of this shop.' };
+		if (target.role === newRole) return { ok: true };
+		if ((newRole === 'owner' || target.role === 'owner') && by.role !== 'owner') {
+			return { ok: false, message: 'Only an owner can give or take away the owner role.' };
+		}
+		if (target.role === 'owner' && owners.length <= 1) {
+			return { ok: false, message: `${target.email} is the last owner. Make someone else an owner first.` };
+		}
+		await trx('public.memberships').where({ id: membershipId }).update({ role: newRole });
+		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+		await audit(trx, {
+			actorUserId: by.id,
+			actorEmail: by.email,
+			action: 'member.role-changed',
+			target: target.email,
+			detail: { from: target.role, to: newRole },
+			ip
+		});
+		return { ok: true };
+	});
+}
+
+/** Removes a member from the shop (their account stays). The last owner cannot be removed. */
+export async function removeMember(
+	knex: Knex,
+	shop: ShopRef,
+	membershipId: number,
+	by: Actor & { role: Role },
+	ip = ''
+): Promise<MemberChangeResult> {
+	return knex.transaction(async (trx) => {
+		const owners = await trx('public.memberships').where({ shop_id: shop.id, role: 'owner' }).forUpdate().select('id');
+		const target = await trx('public.memberships as m')
+			.join('public.users as u', 'u.id', 'm.user_id')
+			.where({ 'm.id': membershipId, 'm.shop_id': shop.id })
+			.first('m.role', 'u.email');
+		if (!target) return { ok: false, message: 'That person is not a member of this shop.' };
+		if (target.role === 'owner' && by.role !== 'owner') {
+			return { ok: false, message: 'Only an owner can remove an owner.' };
+		}
+		if (target.role === 'owner' && owners.length <= 1) {
+			return { ok: false, message: `${target.email} is the last owner and cannot be removed.` };
+		}
+		await trx('public.memberships').where({ id: membershipId }).del();
+		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+		await audit(trx, { actorUserId: by.id, actorEmail: by.email, action: 'member.removed', target: target.email, detail: { role: target.role }, ip });
+		return { ok: true };
+	});
+}
+
+export async function readAuditLog(shop: ShopRef, limit = 200) {
+	return withShop(shop, async (trx) => {
+		const rows = await trx('audit_log').orderBy('at', 'desc').orderBy('id', 'desc').limit(limit).select('*');
+		return rows.map((r) => ({
+			id: Number(r.id),
+			at: new Date(r.at).toISOString(),
+			actorEmail: r.actor_email as string,
+			action: r.action as string,
+			target: r.target as string,
+			detail: r.detail as Record<string, unknown>,
+			ip: r.ip as string
+		}));
+	});
+}
