@@ -46,7 +46,12 @@ export function isAdjacentTransposition(a: string, b: string): boolean {
 	if (a.length !== b.length || a === b) return false;
 	const diff: number[] = [];
 	for (let i = 0; i < a.length; i++) if (a[i] !== b[i]) diff.push(i);
-	return diff.length === 2 && diff[1] === diff[0] + 1 && a[diff[0]] === b[diff[1]] && a[diff[1]] === b[diff[0]];
+	return (
+		diff.length === 2 &&
+		diff[1] === diff[0] + 1 &&
+		a[diff[0]] === b[diff[1]] &&
+		a[diff[1]] === b[diff[0]]
+	);
 }
 
 /** Which typing slip turns `previous` into `current`, if any. */
@@ -63,23 +68,36 @@ export function slipKind(
 	const floor = toMicro(policy.minSlipMagnitude);
 	if (Math.abs(p) < floor && Math.abs(c) < floor) return null;
 	const tol = policy.slipTolerance;
-	if (Math.sign(c) !== Math.sign(p) && Math.abs(Math.abs(c) - Math.abs(p)) <= toMicro(policy.jumpTolerance)) {
+	if (
+		Math.sign(c) !== Math.sign(p) &&
+		Math.abs(Math.abs(c) - Math.abs(p)) <= toMicro(policy.jumpTolerance)
+	) {
 		return 'sign-flip';
 	}
 	const ratio = Math.abs(c) / Math.abs(p);
 	if (near(ratio, MM_PER_INCH, tol) || near(ratio, 1 / MM_PER_INCH, tol)) return 'unit-slip';
 	if (near(ratio, 10, tol) || near(ratio, 0.1, tol)) return 'decimal-slip';
-	if (Math.sign(c) === Math.sign(p) && isAdjacentTransposition(digitsOf(current, units, resolution), digitsOf(previous, units, resolution))) {
+	if (
+		Math.sign(c) === Math.sign(p) &&
+		isAdjacentTransposition(
+			digitsOf(current, units, resolution),
+			digitsOf(previous, units, resolution)
+		)
+	) {
 		return 'transposed-digits';
 	}
 	return null;
 }
 
 const SLIP_TEXT: Record<Exclude<TableFindingKind, 'jump'>, string> = {
-	'sign-flip': 'has the opposite sign of its last recorded value with about the same size: a minus sign was probably added or dropped',
-	'unit-slip': 'is about 25.4 times larger or smaller than its last recorded value: it was probably typed in the wrong unit (inch vs mm)',
-	'decimal-slip': 'is about 10 times larger or smaller than its last recorded value: the decimal point was probably typed in the wrong place',
-	'transposed-digits': 'matches its last recorded value with two neighbouring digits swapped: probably a typing slip',
+	'sign-flip':
+		'has the opposite sign of its last recorded value with about the same size: a minus sign was probably added or dropped',
+	'unit-slip':
+		'is about 25.4 times larger or smaller than its last recorded value: it was probably typed in the wrong unit (inch vs mm)',
+	'decimal-slip':
+		'is about 10 times larger or smaller than its last recorded value: the decimal point was probably typed in the wrong place',
+	'transposed-digits':
+		'matches its last recorded value with two neighbouring digits swapped: probably a typing slip',
 	sign: '',
 	'out-of-travel': '',
 	'stale-age': '',
@@ -133,7 +151,8 @@ export function checkRegisterHistory(ctx: RegisterContext): Finding[] {
 	}
 
 	if (measuredAt !== undefined) {
-		const limitDays = ctx.section === 'tools' ? ctx.policy.toolMaxAgeDays : ctx.policy.workMaxAgeDays;
+		const limitDays =
+			ctx.section === 'tools' ? ctx.policy.toolMaxAgeDays : ctx.policy.workMaxAgeDays;
 		const ageDays = (ctx.now - measuredAt) / DAY_MS;
 		if (ageDays > limitDays) {
 			out.push(
@@ -146,7 +165,11 @@ export function checkRegisterHistory(ctx: RegisterContext): Finding[] {
 				)
 			);
 		}
-		if (ctx.dependsOnReference && ctx.referenceEstablishedAt !== undefined && measuredAt < ctx.referenceEstablishedAt) {
+		if (
+			ctx.dependsOnReference &&
+			ctx.referenceEstablishedAt !== undefined &&
+			measuredAt < ctx.referenceEstablishedAt
+		) {
 			out.push(
 				makeFinding(
 					'stale-reference',
@@ -160,4 +183,3 @@ export function checkRegisterHistory(ctx: RegisterContext): Finding[] {
 	}
 	return out;
 }
-

@@ -18,12 +18,21 @@ const TABLE: OffsetTable = {
 };
 function base(): CheckInput {
 	return {
-		machine: { id: 'm1', name: 'Mill 1', units: 'inch', zTravel: 20, convention: 'reference-touch' },
+		machine: {
+			id: 'm1',
+			name: 'Mill 1',
+			units: 'inch',
+			zTravel: 20,
+			convention: 'reference-touch'
+		},
 		table: structuredClone(TABLE),
 		history: {
 			work: { G54: [{ value: 1.25, at: ago(1) }], G55: [{ value: 3, at: ago(1) }] },
 			tools: {
-				'1': [{ value: -13.0001, at: ago(20) }, { value: -13, at: ago(2) }],
+				'1': [
+					{ value: -13.0001, at: ago(20) },
+					{ value: -13, at: ago(2) }
+				],
 				'2': [{ value: -14, at: ago(2) }],
 				'3': [{ value: -13.5, at: ago(2) }]
 			}
@@ -71,7 +80,12 @@ describe('checkOffsets', () => {
 		// Modern Machine Shop, "CNC Tech Talk", Jan 2017: gauge-length G54 Z is a large negative distance
 		const i = base();
 		i.machine.convention = 'gauge-length';
-		i.table = { convention: 'gauge-length', units: 'inch', work: { G54: 13.75 }, tools: { '1': 2 } };
+		i.table = {
+			convention: 'gauge-length',
+			units: 'inch',
+			work: { G54: 13.75 },
+			tools: { '1': 2 }
+		};
 		i.history = undefined;
 		i.setups = undefined;
 		i.used = undefined;
@@ -122,11 +136,20 @@ describe('checkOffsets', () => {
 	test('sign-flip: minus sign dropped on a gauge-length work offset', () => {
 		const i = base();
 		i.machine.convention = 'master-tool';
-		i.table = { convention: 'master-tool', units: 'inch', work: { G54: -11.75 }, tools: { '1': 0, '2': -1.0002 }, masterTool: '1' };
+		i.table = {
+			convention: 'master-tool',
+			units: 'inch',
+			work: { G54: -11.75 },
+			tools: { '1': 0, '2': -1.0002 },
+			masterTool: '1'
+		};
 		i.history = { tools: { '2': [{ value: 1.0002, at: ago(3) }] } };
 		i.setups = undefined;
 		i.used = undefined;
-		expect(only(checkOffsets(i), 'sign-flip')).toMatchObject({ severity: 'stop', subject: { type: 'tool', h: '2' } });
+		expect(only(checkOffsets(i), 'sign-flip')).toMatchObject({
+			severity: 'stop',
+			subject: { type: 'tool', h: '2' }
+		});
 	});
 
 	test('transposed-digits: two neighbouring digits swapped', () => {
@@ -164,9 +187,14 @@ describe('checkOffsets', () => {
 	test('stale-age: older than the shop limit', () => {
 		const i = base();
 		i.history!.tools!['2'] = [{ value: -14, at: ago(DEFAULT_POLICY.inch.toolMaxAgeDays + 1) }];
-		expect(only(checkOffsets(i), 'stale-age')).toMatchObject({ severity: 'caution', subject: { type: 'tool', h: '2' } });
+		expect(only(checkOffsets(i), 'stale-age')).toMatchObject({
+			severity: 'caution',
+			subject: { type: 'tool', h: '2' }
+		});
 		// the shop may allow longer
-		expect(kinds(checkOffsets({ ...i, policy: { toolMaxAgeDays: 60 } }))).not.toContain('stale-age');
+		expect(kinds(checkOffsets({ ...i, policy: { toolMaxAgeDays: 60 } }))).not.toContain(
+			'stale-age'
+		);
 	});
 
 	test('stale-reference: measured before the reference was re-established', () => {
@@ -183,18 +211,33 @@ describe('checkOffsets', () => {
 	test('stale-reference: gauge-length tool lengths do not depend on the reference', () => {
 		const i = base();
 		i.machine.convention = 'gauge-length';
-		i.table = { convention: 'gauge-length', units: 'inch', work: { G54: -13.75 }, tools: { '1': 2 } };
-		i.history = { work: { G54: [{ value: -13.75, at: ago(2) }] }, tools: { '1': [{ value: 2, at: ago(2) }] } };
+		i.table = {
+			convention: 'gauge-length',
+			units: 'inch',
+			work: { G54: -13.75 },
+			tools: { '1': 2 }
+		};
+		i.history = {
+			work: { G54: [{ value: -13.75, at: ago(2) }] },
+			tools: { '1': [{ value: 2, at: ago(2) }] }
+		};
 		i.referenceEstablishedAt = ago(1);
 		i.setups = undefined;
 		i.used = undefined;
-		expect(checkOffsets(i).filter((f) => f.kind === 'stale-reference').map((f) => f.subject.type)).toEqual(['fixture']);
+		expect(
+			checkOffsets(i)
+				.filter((f) => f.kind === 'stale-reference')
+				.map((f) => f.subject.type)
+		).toEqual(['fixture']);
 	});
 
 	test('duplicate-register: the same register typed twice in the table', () => {
 		const i = base();
 		i.table.work['g54'] = 1.2;
-		expect(only(checkOffsets(i), 'duplicate-register')).toMatchObject({ severity: 'stop', subject: { type: 'fixture', register: 'G54' } });
+		expect(only(checkOffsets(i), 'duplicate-register')).toMatchObject({
+			severity: 'stop',
+			subject: { type: 'fixture', register: 'G54' }
+		});
 	});
 
 	test('duplicate-register: two fixtures of a setup on one register', () => {

@@ -30,10 +30,18 @@ export function checkOffsets(input: CheckInput): Finding[] {
 	const machine = i.machine;
 	const table = normalizeTable(i.table, 'input.table', true);
 	if (machine.units !== table.units) {
-		throw OffsetInputError.of('input.table.units', table.units, `differs from ${machineName(machine)}, which works in ${machine.units}: convert the table first`);
+		throw OffsetInputError.of(
+			'input.table.units',
+			table.units,
+			`differs from ${machineName(machine)}, which works in ${machine.units}: convert the table first`
+		);
 	}
 	if (machine.convention !== undefined && machine.convention !== table.convention) {
-		throw OffsetInputError.of('input.table.convention', table.convention, `differs from ${machineName(machine)}, which uses ${machine.convention}: convert the table first`);
+		throw OffsetInputError.of(
+			'input.table.convention',
+			table.convention,
+			`differs from ${machineName(machine)}, which uses ${machine.convention}: convert the table first`
+		);
 	}
 	const units = table.units;
 	const resolution = resolutionFor(units, machine.resolution);
@@ -47,10 +55,20 @@ export function checkOffsets(input: CheckInput): Finding[] {
 
 	// duplicate-register: one register typed twice in the table
 	for (const clash of findClashes(i.table)) {
-		const subject = clash.section === 'work' ? { type: 'fixture' as const, register: clash.canonical } : { type: 'tool' as const, h: clash.canonical };
+		const subject =
+			clash.section === 'work'
+				? { type: 'fixture' as const, register: clash.canonical }
+				: { type: 'tool' as const, h: clash.canonical };
 		const label = clash.section === 'work' ? clash.canonical : `H${clash.canonical}`;
 		const values = clash.keys.map((k) => fmt(i.table[clash.section][k])).join(' and ');
-		findings.push(makeFinding('duplicate-register', 'stop', subject, `${label} is in the table more than once (as ${clash.keys.map((k) => `"${k}"`).join(' and ')}, holding ${values}). Keep the entry that was measured and delete the other.`));
+		findings.push(
+			makeFinding(
+				'duplicate-register',
+				'stop',
+				subject,
+				`${label} is in the table more than once (as ${clash.keys.map((k) => `"${k}"`).join(' and ')}, holding ${values}). Keep the entry that was measured and delete the other.`
+			)
+		);
 	}
 	// duplicate-register: two fixtures (or two tools) of one setup share a register
 	for (const setup of i.setups ?? []) {
@@ -61,7 +79,14 @@ export function checkOffsets(input: CheckInput): Finding[] {
 		});
 		for (const [r, ids] of byRegister) {
 			if (new Set(ids).size > 1) {
-				findings.push(makeFinding('duplicate-register', 'stop', { type: 'setup', id: setup.id, register: r }, `${ids.join(' and ')} in ${setup.name ?? setup.id ?? 'this setup'} both use ${r}, so one of them runs on the other's work offset. Give each fixture its own register.`));
+				findings.push(
+					makeFinding(
+						'duplicate-register',
+						'stop',
+						{ type: 'setup', id: setup.id, register: r },
+						`${ids.join(' and ')} in ${setup.name ?? setup.id ?? 'this setup'} both use ${r}, so one of them runs on the other's work offset. Give each fixture its own register.`
+					)
+				);
 			}
 		}
 		const byH = new Map<string, string[]>();
@@ -71,7 +96,14 @@ export function checkOffsets(input: CheckInput): Finding[] {
 		});
 		for (const [h, ids] of byH) {
 			if (new Set(ids).size > 1) {
-				findings.push(makeFinding('duplicate-register', 'stop', { type: 'setup', id: setup.id, h }, `${ids.join(' and ')} in ${setup.name ?? setup.id ?? 'this setup'} both use H${h}, so one of them cuts with the other's length. Give each tool its own H number.`));
+				findings.push(
+					makeFinding(
+						'duplicate-register',
+						'stop',
+						{ type: 'setup', id: setup.id, h },
+						`${ids.join(' and ')} in ${setup.name ?? setup.id ?? 'this setup'} both use H${h}, so one of them cuts with the other's length. Give each tool its own H number.`
+					)
+				);
 			}
 		}
 	}
@@ -83,11 +115,22 @@ export function checkOffsets(input: CheckInput): Finding[] {
 	] as const;
 	for (const [section, values, expected] of sections) {
 		for (const [key, value] of Object.entries(values)) {
-			const subject = section === 'work' ? { type: 'fixture' as const, register: key } : { type: 'tool' as const, h: key };
+			const subject =
+				section === 'work'
+					? { type: 'fixture' as const, register: key }
+					: { type: 'tool' as const, h: key };
 			const label = section === 'work' ? key : `H${key}`;
 			const v = toMicro(value);
 			if (Math.abs(v) > span) {
-				findings.push(makeFinding('out-of-travel', 'stop', subject, `${label} is ${fmt(value)}, more than the machine's whole Z travel of ${fmt(fromMicro(span))}: no tool or fixture can need that. Re-measure it or re-enter it from the reading.`, { value }));
+				findings.push(
+					makeFinding(
+						'out-of-travel',
+						'stop',
+						subject,
+						`${label} is ${fmt(value)}, more than the machine's whole Z travel of ${fmt(fromMicro(span))}: no tool or fixture can need that. Re-measure it or re-enter it from the reading.`,
+						{ value }
+					)
+				);
 				continue;
 			}
 			const wrong = (expected === 'negative' && v > 0) || (expected === 'positive' && v < 0);
@@ -95,45 +138,78 @@ export function checkOffsets(input: CheckInput): Finding[] {
 			const what = section === 'work' ? 'a work offset' : 'a tool length offset';
 			// a reference-touch work offset below the reference is unusual but possible
 			const severity = convention === 'reference-touch' && section === 'work' ? 'caution' : 'stop';
-			findings.push(makeFinding('sign', severity, subject, `${label} is ${fmt(value)}, but in the ${convention} convention ${what} is ${expected}. Check the sign against the reading and re-enter it.`, { value, expected }));
+			findings.push(
+				makeFinding(
+					'sign',
+					severity,
+					subject,
+					`${label} is ${fmt(value)}, but in the ${convention} convention ${what} is ${expected}. Check the sign against the reading and re-enter it.`,
+					{ value, expected }
+				)
+			);
 		}
 	}
 
 	// out-of-travel: the spindle at program zero (and at the clearance plane) for each pair
 	for (const setup of i.setups ?? []) {
-		let planes: Record<string, number> = {};
+		let planes: Record<string, number>;
 		try {
 			planes = clearancePlanes(setup, i.policy);
 		} catch {
 			planes = {}; // a setup that repeats a register is reported above as duplicate-register
 		}
-		const hs = setup.tools?.length ? [...new Set(setup.tools.map((t) => canonicalH(t.h)!))] : Object.keys(table.tools);
+		const hs = setup.tools?.length
+			? [...new Set(setup.tools.map((t) => canonicalH(t.h)!))]
+			: Object.keys(table.tools);
 		for (const f of setup.fixtures) {
 			const r = canonicalRegister(f.register)!;
 			const w = table.work[r];
 			if (w === undefined) continue;
 			for (const h of hs) {
-				const tool = table.tools[h] ?? (convention === 'master-tool' && h === master ? 0 : undefined);
+				const tool =
+					table.tools[h] ?? (convention === 'master-tool' && h === master ? 0 : undefined);
 				if (tool === undefined) continue;
 				const z = toMicro(w) + toMicro(tool);
 				const subject = { type: 'setup' as const, id: setup.id, register: r, h };
 				if (z < toMicro(min) || z > toMicro(max)) {
-					findings.push(makeFinding('out-of-travel', 'stop', subject, `With ${r} and H${h}, program Z0 puts the spindle at machine Z ${fmt(fromMicro(z))}, outside the Z travel (${fmt(min)} to ${fmt(max)}). One of the two offsets is wrong: re-measure both before running this setup.`, { spindleZ: fromMicro(z), min, max }));
+					findings.push(
+						makeFinding(
+							'out-of-travel',
+							'stop',
+							subject,
+							`With ${r} and H${h}, program Z0 puts the spindle at machine Z ${fmt(fromMicro(z))}, outside the Z travel (${fmt(min)} to ${fmt(max)}). One of the two offsets is wrong: re-measure both before running this setup.`,
+							{ spindleZ: fromMicro(z), min, max }
+						)
+					);
 					continue;
 				}
 				const plane = planes[r];
 				if (plane === undefined) continue;
 				const top = z + toMicro(toUnits(plane, setup.units, units));
 				if (top > toMicro(max)) {
-					findings.push(makeFinding('out-of-travel', 'caution', subject, `With ${r} and H${h}, the clearance plane (${fmt(toUnits(plane, setup.units, units))} above program zero) is above the top of Z travel. Use a shorter tool or lower the stack, and check the retract moves.`, { spindleZ: fromMicro(z), clearanceZ: fromMicro(top), max }));
+					findings.push(
+						makeFinding(
+							'out-of-travel',
+							'caution',
+							subject,
+							`With ${r} and H${h}, the clearance plane (${fmt(toUnits(plane, setup.units, units))} above program zero) is above the top of Z travel. Use a shorter tool or lower the stack, and check the retract moves.`,
+							{ spindleZ: fromMicro(z), clearanceZ: fromMicro(top), max }
+						)
+					);
 				}
 			}
 		}
 	}
 
 	// unset: used but never measured
-	const usedWork = new Set<string>([...(i.used?.work ?? []).map((r) => canonicalRegister(r)!), ...(i.setups ?? []).flatMap((s) => s.fixtures.map((f) => canonicalRegister(f.register)!))]);
-	const usedTools = new Set<string>([...(i.used?.tools ?? []).map((h) => canonicalH(h)!), ...(i.setups ?? []).flatMap((s) => (s.tools ?? []).map((t) => canonicalH(t.h)!))]);
+	const usedWork = new Set<string>([
+		...(i.used?.work ?? []).map((r) => canonicalRegister(r)!),
+		...(i.setups ?? []).flatMap((s) => s.fixtures.map((f) => canonicalRegister(f.register)!))
+	]);
+	const usedTools = new Set<string>([
+		...(i.used?.tools ?? []).map((h) => canonicalH(h)!),
+		...(i.setups ?? []).flatMap((s) => (s.tools ?? []).map((t) => canonicalH(t.h)!))
+	]);
 	const unmeasuredWork = new Set((i.unmeasured?.work ?? []).map((r) => canonicalRegister(r)!));
 	const unmeasuredTools = new Set((i.unmeasured?.tools ?? []).map((h) => canonicalH(h)!));
 	// A zero is what a control shows for an offset never set. It is impossible for every tool
@@ -141,21 +217,55 @@ export function checkOffsets(input: CheckInput): Finding[] {
 	const zeroImpossibleWork = convention !== 'reference-touch';
 	for (const r of usedWork) {
 		const w = table.work[r];
-		const why = w === undefined ? 'has no value in the table' : unmeasuredWork.has(r) ? 'has never been measured' : zeroImpossibleWork && toMicro(w) === 0 ? `reads ${fmt(0)}, which in the ${convention} convention means it was never set` : null;
-		if (why) findings.push(makeFinding('unset', 'stop', { type: 'fixture', register: r }, `${r} is used but ${why}. Measure it before running.`));
+		const why =
+			w === undefined
+				? 'has no value in the table'
+				: unmeasuredWork.has(r)
+					? 'has never been measured'
+					: zeroImpossibleWork && toMicro(w) === 0
+						? `reads ${fmt(0)}, which in the ${convention} convention means it was never set`
+						: null;
+		if (why)
+			findings.push(
+				makeFinding(
+					'unset',
+					'stop',
+					{ type: 'fixture', register: r },
+					`${r} is used but ${why}. Measure it before running.`
+				)
+			);
 	}
 	for (const h of usedTools) {
 		const v = table.tools[h];
 		const isMaster = convention === 'master-tool' && h === master;
-		const why = v === undefined && !isMaster ? 'has no value in the table' : unmeasuredTools.has(h) ? 'has never been measured' : v !== undefined && !isMaster && toMicro(v) === 0 ? `reads ${fmt(0)}, which for this tool means it was never set` : null;
-		if (why) findings.push(makeFinding('unset', 'stop', { type: 'tool', h }, `H${h} is used but ${why}. Touch it off before running.`));
+		const why =
+			v === undefined && !isMaster
+				? 'has no value in the table'
+				: unmeasuredTools.has(h)
+					? 'has never been measured'
+					: v !== undefined && !isMaster && toMicro(v) === 0
+						? `reads ${fmt(0)}, which for this tool means it was never set`
+						: null;
+		if (why)
+			findings.push(
+				makeFinding(
+					'unset',
+					'stop',
+					{ type: 'tool', h },
+					`H${h} is used but ${why}. Touch it off before running.`
+				)
+			);
 	}
 
 	// history: slips, jumps, age, reference
 	const now = toMillis(i.now);
-	const referenceEstablishedAt = i.referenceEstablishedAt === undefined ? undefined : toMillis(i.referenceEstablishedAt);
+	const referenceEstablishedAt =
+		i.referenceEstablishedAt === undefined ? undefined : toMillis(i.referenceEstablishedAt);
 	const dependence = REFERENCE_DEPENDENCE[convention];
-	const historyFor = (records: Record<string, HistoryEntry[]> | undefined, canon: (k: string) => string | null) => {
+	const historyFor = (
+		records: Record<string, HistoryEntry[]> | undefined,
+		canon: (k: string) => string | null
+	) => {
 		const map = new Map<string, HistoryEntry[]>();
 		for (const [k, entries] of Object.entries(records ?? {})) {
 			const c = canon(k);
@@ -174,7 +284,8 @@ export function checkOffsets(input: CheckInput): Finding[] {
 			if (!entries?.length) continue;
 			findings.push(
 				...checkRegisterHistory({
-					subject: section === 'work' ? { type: 'fixture', register: key } : { type: 'tool', h: key },
+					subject:
+						section === 'work' ? { type: 'fixture', register: key } : { type: 'tool', h: key },
 					label: section === 'work' ? key : `H${key}`,
 					section,
 					current,
@@ -184,7 +295,10 @@ export function checkOffsets(input: CheckInput): Finding[] {
 					policy,
 					now,
 					referenceEstablishedAt,
-					dependsOnReference: section === 'work' ? dependence.machineShift.work || dependence.surfaceMoved.work : dependence.machineShift.tools || dependence.surfaceMoved.tools
+					dependsOnReference:
+						section === 'work'
+							? dependence.machineShift.work || dependence.surfaceMoved.work
+							: dependence.machineShift.tools || dependence.surfaceMoved.tools
 				})
 			);
 		}

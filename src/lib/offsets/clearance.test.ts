@@ -28,7 +28,10 @@ describe('clearancePlanes', () => {
 
 	test('policy margin in other units is converted exactly', () => {
 		// NIST SP 811: 25.4 mm = 1 in
-		expect(clearancePlanes(SETUP, { units: 'mm', clearanceMargin: 25.4 })).toEqual({ G54: 4.25, G55: 1 });
+		expect(clearancePlanes(SETUP, { units: 'mm', clearanceMargin: 25.4 })).toEqual({
+			G54: 4.25,
+			G55: 1
+		});
 	});
 
 	test('rounded up, never down, to the increment', () => {
@@ -38,14 +41,21 @@ describe('clearancePlanes', () => {
 
 	test('metric setup, metric default margin (25 mm, our default)', () => {
 		// Example data (invented): metric flange on Mill 3
-		const planes = clearancePlanes({ units: 'mm', fixtures: [{ register: 'G54.1 P2', zeroHeight: 40 }] });
+		const planes = clearancePlanes({
+			units: 'mm',
+			fixtures: [{ register: 'G54.1 P2', zeroHeight: 40 }]
+		});
 		expect(planes).toEqual({ 'G54.1 P2': 25 });
 	});
 
 	test('refuses a register shared by two fixtures and bad numbers', () => {
 		const dup = { ...SETUP, fixtures: [SETUP.fixtures[0], { register: 'g54', zeroHeight: 2 }] };
 		expect(() => clearancePlanes(dup)).toThrow(/setup.fixtures.1.register/);
-		expect(() => clearancePlanes({ ...SETUP, obstacles: [{ height: Number.NaN }] })).toThrow(OffsetInputError);
-		expect(() => clearancePlanes({ ...SETUP, fixtures: [{ register: 'G54.1 P0', zeroHeight: 1 }] })).toThrow(/G54.1 P1–P48/);
+		expect(() => clearancePlanes({ ...SETUP, obstacles: [{ height: Number.NaN }] })).toThrow(
+			OffsetInputError
+		);
+		expect(() =>
+			clearancePlanes({ ...SETUP, fixtures: [{ register: 'G54.1 P0', zeroHeight: 1 }] })
+		).toThrow(/G54.1 P1–P48/);
 	});
 });

@@ -50,7 +50,10 @@ export function clearancePlanes(setup: Setup, policy?: PolicyInput): Record<stri
 	const tallest = Math.max(...heights);
 	const planes: Record<string, number> = {};
 	for (const f of s.fixtures) {
-		planes[canonicalRegister(f.register)!] = ceilTo(tallest + toMicro(margin) - toMicro(f.zeroHeight), resolution);
+		planes[canonicalRegister(f.register)!] = ceilTo(
+			tallest + toMicro(margin) - toMicro(f.zeroHeight),
+			resolution
+		);
 	}
 	return planes;
 }
@@ -64,4 +67,3 @@ export function tallestObstacle(setup: Setup): number {
 	];
 	return fromMicro(Math.max(...heights));
 }
-

@@ -64,9 +64,24 @@ export const EXPECTED_SIGN: Readonly<
  * at a different height while the parts stayed put.
  */
 export const REFERENCE_DEPENDENCE: Readonly<
-	Record<Convention, { machineShift: { tools: boolean; work: boolean }; surfaceMoved: { tools: boolean; work: boolean } }>
+	Record<
+		Convention,
+		{
+			machineShift: { tools: boolean; work: boolean };
+			surfaceMoved: { tools: boolean; work: boolean };
+		}
+	>
 > = {
-	'reference-touch': { machineShift: { tools: true, work: false }, surfaceMoved: { tools: true, work: true } },
-	'gauge-length': { machineShift: { tools: false, work: true }, surfaceMoved: { tools: false, work: false } },
-	'master-tool': { machineShift: { tools: false, work: true }, surfaceMoved: { tools: false, work: false } }
+	'reference-touch': {
+		machineShift: { tools: true, work: false },
+		surfaceMoved: { tools: true, work: true }
+	},
+	'gauge-length': {
+		machineShift: { tools: false, work: true },
+		surfaceMoved: { tools: false, work: false }
+	},
+	'master-tool': {
+		machineShift: { tools: false, work: true },
+		surfaceMoved: { tools: false, work: false }
+	}
 };

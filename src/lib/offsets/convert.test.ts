@@ -31,12 +31,17 @@ const MT: OffsetTable = {
 	tools: { '1': 0, '2': -1, '3': -0.5, '4': 0.4 },
 	masterTool: '1'
 };
-const BY: Record<Convention, OffsetTable> = { 'reference-touch': RT, 'gauge-length': GL, 'master-tool': MT };
+const BY: Record<Convention, OffsetTable> = {
+	'reference-touch': RT,
+	'gauge-length': GL,
+	'master-tool': MT
+};
 const GEOMETRY = { referenceGaugeLineZ: R, masterTouchZ: MASTER_TOUCH, masterTool: '1' };
 
 function spindleZs(t: OffsetTable): number[] {
 	const out: number[] = [];
-	for (const w of Object.values(t.work)) for (const h of Object.values(t.tools)) out.push(Math.round((w + h) * 10000));
+	for (const w of Object.values(t.work))
+		for (const h of Object.values(t.tools)) out.push(Math.round((w + h) * 10000));
 	return out;
 }
 
@@ -93,10 +98,18 @@ describe('convertTable', () => {
 	});
 
 	test('unknown registers, NaN and infinities are refused by field', () => {
-		expect(() => convertTable({ ...RT, work: { G53: 1 } }, 'master-tool')).toThrow(/table.work.G53: must be a work offset G54/);
-		expect(() => convertTable({ ...RT, work: { 'G54.1 P49': 1 } }, 'master-tool')).toThrow(OffsetInputError);
-		expect(() => convertTable({ ...RT, tools: { '1': Number.NaN } }, 'master-tool')).toThrow(/table.tools.1: is not a number \(NaN\)/);
-		expect(() => convertTable({ ...RT, tools: { '1': Infinity } }, 'master-tool')).toThrow(/infinite/);
+		expect(() => convertTable({ ...RT, work: { G53: 1 } }, 'master-tool')).toThrow(
+			/table.work.G53: must be a work offset G54/
+		);
+		expect(() => convertTable({ ...RT, work: { 'G54.1 P49': 1 } }, 'master-tool')).toThrow(
+			OffsetInputError
+		);
+		expect(() => convertTable({ ...RT, tools: { '1': Number.NaN } }, 'master-tool')).toThrow(
+			/table.tools.1: is not a number \(NaN\)/
+		);
+		expect(() => convertTable({ ...RT, tools: { '1': Infinity } }, 'master-tool')).toThrow(
+			/infinite/
+		);
 		expect(() => convertTable(RT, 'tool-tip' as Convention)).toThrow(/^to: must be one of/);
 	});
 
@@ -114,8 +127,16 @@ describe('convertTable', () => {
 					const toolLengths = Object.fromEntries(lengths.map((l, i) => [String(i + 1), l]));
 					const regs = ['G54', 'G55', 'G56', 'G57', 'G58', 'G59'];
 					const zeroHeights = Object.fromEntries(heights.map((h, i) => [regs[i], h]));
-					const source = tableFromGeometry({ referenceGaugeLineZ: r, toolLengths, zeroHeights, masterTool: '1' }, from, 'inch');
-					const out = convertTable(source, to, { referenceGaugeLineZ: r, masterTouchZ: (Math.round(r * 1e4) + Math.round(lengths[0] * 1e4)) / 1e4, masterTool: '1' });
+					const source = tableFromGeometry(
+						{ referenceGaugeLineZ: r, toolLengths, zeroHeights, masterTool: '1' },
+						from,
+						'inch'
+					);
+					const out = convertTable(source, to, {
+						referenceGaugeLineZ: r,
+						masterTouchZ: (Math.round(r * 1e4) + Math.round(lengths[0] * 1e4)) / 1e4,
+						masterTool: '1'
+					});
 					// invariant of DESIGN.md §2, checked independently in integer 0.0001 in
 					for (const [k, h] of Object.entries(zeroHeights)) {
 						for (const [t, l] of Object.entries(toolLengths)) {
@@ -127,7 +148,12 @@ describe('convertTable', () => {
 					const l1 = Math.round(lengths[0] * 1e4);
 					for (const [t, l] of Object.entries(toolLengths)) {
 						const li = Math.round(l * 1e4);
-						const want = to === 'reference-touch' ? Math.round(r * 1e4) + li : to === 'gauge-length' ? li : li - l1;
+						const want =
+							to === 'reference-touch'
+								? Math.round(r * 1e4) + li
+								: to === 'gauge-length'
+									? li
+									: li - l1;
 						expect(Math.round(out.tools[t] * 1e4)).toBe(want);
 					}
 				}

@@ -37,7 +37,8 @@ function shifted(table: OffsetTable, to: Convention, c: number, masterTool?: str
 
 /** A master-tool table may omit its master (offset 0): write it in so it survives a conversion. */
 function withMasterEntry(t: OffsetTable): OffsetTable {
-	if (t.convention !== 'master-tool' || t.masterTool === undefined || t.masterTool in t.tools) return t;
+	if (t.convention !== 'master-tool' || t.masterTool === undefined || t.masterTool in t.tools)
+		return t;
 	const tools = Object.fromEntries(
 		Object.entries({ ...t.tools, [t.masterTool]: 0 }).sort(([a], [b]) => Number(a) - Number(b))
 	);
@@ -65,13 +66,21 @@ export function convertTable(
 	if (target === 'master-tool') {
 		const wanted = g.masterTool ?? t.masterTool ?? Object.keys(t.tools)[0];
 		if (wanted === undefined) {
-			throw OffsetInputError.of('geometry.masterTool', undefined, 'is needed: the table has no tool to be the master');
+			throw OffsetInputError.of(
+				'geometry.masterTool',
+				undefined,
+				'is needed: the table has no tool to be the master'
+			);
 		}
 		const m = canonicalH(wanted)!;
 		const hm = t.tools[m];
 		// A master-tool table may leave its master out: its offset is 0 by definition.
 		if (hm === undefined && !(from === 'master-tool' && m === t.masterTool)) {
-			throw OffsetInputError.of('geometry.masterTool', wanted, `has no offset in the table: H${m} must be measured to be the master`);
+			throw OffsetInputError.of(
+				'geometry.masterTool',
+				wanted,
+				`has no offset in the table: H${m} must be measured to be the master`
+			);
 		}
 		return shifted(t, target, -toMicro(hm ?? 0), m);
 	}
@@ -83,7 +92,10 @@ export function convertTable(
 	if (from === 'reference-touch') c = -need('referenceGaugeLineZ', g.referenceGaugeLineZ, rWhy);
 	else if (from === 'gauge-length') c = need('referenceGaugeLineZ', g.referenceGaugeLineZ, rWhy);
 	else if (target === 'reference-touch') c = need('masterTouchZ', g.masterTouchZ, mWhy);
-	else c = need('masterTouchZ', g.masterTouchZ, mWhy) - need('referenceGaugeLineZ', g.referenceGaugeLineZ, rWhy);
+	else
+		c =
+			need('masterTouchZ', g.masterTouchZ, mWhy) -
+			need('referenceGaugeLineZ', g.referenceGaugeLineZ, rWhy);
 	return shifted(t, target, c);
 }
 
@@ -93,7 +105,11 @@ export function convertTable(
  * increment unchanged, because 0.001 mm is finer than half of 0.0001 in; mm → inch → mm can
  * move a value by up to half of 0.0001 in (0.00127 mm).
  */
-export function convertTableUnits(table: OffsetTable, units: Units, resolution?: number): OffsetTable {
+export function convertTableUnits(
+	table: OffsetTable,
+	units: Units,
+	resolution?: number
+): OffsetTable {
 	const t = normalizeTable(table);
 	const u = parseInput(unitsSchema, units, 'units');
 	const step = resolution ?? 'control';
@@ -114,15 +130,23 @@ export function tableFromGeometry(
 	convention: Convention,
 	units: Units
 ): OffsetTable {
-	if (!CONVENTIONS.includes(convention)) throw OffsetInputError.of('convention', convention, `must be one of ${CONVENTIONS.join(', ')}`);
+	if (!CONVENTIONS.includes(convention))
+		throw OffsetInputError.of('convention', convention, `must be one of ${CONVENTIONS.join(', ')}`);
 	const r = toMicro(geometry.referenceGaugeLineZ, 'geometry.referenceGaugeLineZ');
 	let lm = 0;
 	let master: string | undefined;
 	if (convention === 'master-tool') {
-		master = geometry.masterTool === undefined ? undefined : (canonicalH(geometry.masterTool) ?? undefined);
+		master =
+			geometry.masterTool === undefined
+				? undefined
+				: (canonicalH(geometry.masterTool) ?? undefined);
 		const length = master === undefined ? undefined : geometry.toolLengths[master];
 		if (master === undefined || length === undefined) {
-			throw OffsetInputError.of('geometry.masterTool', geometry.masterTool, 'must name a tool in toolLengths for the master-tool convention');
+			throw OffsetInputError.of(
+				'geometry.masterTool',
+				geometry.masterTool,
+				'must name a tool in toolLengths for the master-tool convention'
+			);
 		}
 		lm = toMicro(length);
 	}
@@ -130,11 +154,21 @@ export function tableFromGeometry(
 	const tools: Record<string, number> = {};
 	for (const [h, l] of Object.entries(geometry.toolLengths)) {
 		const li = toMicro(l, `geometry.toolLengths.${h}`);
-		tools[h] = fromMicro(convention === 'reference-touch' ? r + li : convention === 'gauge-length' ? li : li - lm);
+		tools[h] = fromMicro(
+			convention === 'reference-touch' ? r + li : convention === 'gauge-length' ? li : li - lm
+		);
 	}
 	for (const [k, hk] of Object.entries(geometry.zeroHeights)) {
 		const h = toMicro(hk, `geometry.zeroHeights.${k}`);
-		work[k] = fromMicro(convention === 'reference-touch' ? h : convention === 'gauge-length' ? r + h : r + h + lm);
+		work[k] = fromMicro(
+			convention === 'reference-touch' ? h : convention === 'gauge-length' ? r + h : r + h + lm
+		);
 	}
-	return normalizeTable({ convention, units, work, tools, ...(master ? { masterTool: master } : {}) });
+	return normalizeTable({
+		convention,
+		units,
+		work,
+		tools,
+		...(master ? { masterTool: master } : {})
+	});
 }

@@ -29,7 +29,11 @@ export class OffsetInputError extends Error {
 
 /** True for an `OffsetInputError`, also across module copies (checks the name, not the class). */
 export function isOffsetInputError(e: unknown): e is OffsetInputError {
-	return e instanceof Error && e.name === 'OffsetInputError' && Array.isArray((e as OffsetInputError).issues);
+	return (
+		e instanceof Error &&
+		e.name === 'OffsetInputError' &&
+		Array.isArray((e as OffsetInputError).issues)
+	);
 }
 
 /** Short, safe rendering of any value for a message: NaN and infinities stay readable. */

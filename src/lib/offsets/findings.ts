@@ -75,7 +75,12 @@ export function subjectKey(subject: FindingSubject): string {
 		case 'tool':
 			return `tool:H${subject.h}`;
 		case 'setup':
-			return ['setup', subject.id ?? '-', subject.register ?? '-', subject.h ? `H${subject.h}` : '-'].join(':');
+			return [
+				'setup',
+				subject.id ?? '-',
+				subject.register ?? '-',
+				subject.h ? `H${subject.h}` : '-'
+			].join(':');
 		case 'program-line':
 			return `${subject.programId ? `program:${subject.programId}:` : ''}line:${subject.line}`;
 	}
@@ -101,7 +106,9 @@ export function makeFinding(
 
 /** Stop findings first, then in the order found (sort is stable). */
 export function sortFindings(findings: Finding[]): Finding[] {
-	return [...findings].sort((a, b) => (a.severity === b.severity ? 0 : a.severity === 'stop' ? -1 : 1));
+	return [...findings].sort((a, b) =>
+		a.severity === b.severity ? 0 : a.severity === 'stop' ? -1 : 1
+	);
 }
 
 /** zod schema of a Finding, for the API and stored rows. */
@@ -119,7 +126,11 @@ export const findingSchema = z.object({
 			register: z.string().optional(),
 			h: z.string().optional()
 		}),
-		z.object({ type: z.literal('program-line'), line: z.number().int(), programId: z.string().optional() })
+		z.object({
+			type: z.literal('program-line'),
+			line: z.number().int(),
+			programId: z.string().optional()
+		})
 	]),
 	message: z.string(),
 	status: z.enum(['open', 'acknowledged', 'resolved']).optional(),

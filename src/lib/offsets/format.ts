@@ -21,7 +21,11 @@ export function decimalsFor(resolution: number): number {
  */
 export function formatLength(value: number, units: Units, resolution?: number): string {
 	if (!Number.isFinite(value)) {
-		throw OffsetInputError.of('value', value, Number.isNaN(value) ? 'is not a number (NaN)' : 'must be a finite number');
+		throw OffsetInputError.of(
+			'value',
+			value,
+			Number.isNaN(value) ? 'is not a number (NaN)' : 'must be a finite number'
+		);
 	}
 	const step = resolutionFor(units, resolution);
 	const places = decimalsFor(step);

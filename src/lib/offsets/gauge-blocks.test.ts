@@ -15,7 +15,8 @@ describe('gauge-block sets', () => {
 		const blocks = gaugeSetBlocks(GAUGE_SETS['inch-81']);
 		expect(blocks).toHaveLength(81);
 		expect(new Set(blocks).size).toBe(81);
-		for (const b of [0.1001, 0.1009, 0.101, 0.149, 0.05, 0.95, 1, 2, 3, 4]) expect(blocks).toContain(b);
+		for (const b of [0.1001, 0.1009, 0.101, 0.149, 0.05, 0.95, 1, 2, 3, 4])
+			expect(blocks).toContain(b);
 		expect(blocks).not.toContain(0.15 + 0.0001);
 	});
 

@@ -17,7 +17,11 @@ function gcd(a: number, b: number): number {
 }
 
 /** Fewest blocks from `blocks` (each used once) summing to `target`; null if none. */
-function coarse(target: number, blocks: number[], memo: Map<number, number[] | null>): number[] | null {
+function coarse(
+	target: number,
+	blocks: number[],
+	memo: Map<number, number[] | null>
+): number[] | null {
 	if (memo.has(target)) return memo.get(target)!;
 	const g = blocks.reduce(gcd);
 	if (target % g !== 0) return null;
@@ -56,10 +60,18 @@ function coarse(target: number, blocks: number[], memo: Map<number, number[] | n
 	return result;
 }
 
-function solve(target: number, set: GaugeSet, index: number, memo: Map<number, number[] | null>): number[] | null {
+function solve(
+	target: number,
+	set: GaugeSet,
+	index: number,
+	memo: Map<number, number[] | null>
+): number[] | null {
 	const series = set.series;
 	if (index === series.length - 1) return coarse(target, series[index], memo);
-	const later = series.slice(index + 1).flat().reduce(gcd);
+	const later = series
+		.slice(index + 1)
+		.flat()
+		.reduce(gcd);
 	const blocks = series[index];
 	// None, then single blocks, then pairs: on a tie the handbook's one block per digit wins.
 	const options: number[][] = [[], ...blocks.map((b) => [b])];
@@ -87,22 +99,37 @@ function solve(target: number, set: GaugeSet, index: number, memo: Map<number, n
 export function gaugeStack(target: number, setName: string): number[] {
 	const set = findGaugeSet(setName);
 	if (!set) {
-		throw OffsetInputError.of('setName', setName, `is not a gauge-block set we know; use one of ${Object.keys(GAUGE_SETS).join(', ')}`);
+		throw OffsetInputError.of(
+			'setName',
+			setName,
+			`is not a gauge-block set we know; use one of ${Object.keys(GAUGE_SETS).join(', ')}`
+		);
 	}
 	requireFinite(target, 'target');
 	const unit = UNIT_LABEL[set.units];
 	if (target <= 0) throw OffsetInputError.of('target', target, 'must be greater than zero');
 	const count = toIncrements(target, set.step);
 	if (fromIncrements(count, set.step) !== target) {
-		throw OffsetInputError.of('target', target, `is not a multiple of ${set.step} ${unit}, the finest step the ${set.label} can build`);
+		throw OffsetInputError.of(
+			'target',
+			target,
+			`is not a multiple of ${set.step} ${unit}, the finest step the ${set.label} can build`
+		);
 	}
 	const stack = solve(count, set, 0, new Map());
 	if (!stack) {
 		const all = set.series.flat();
-		const total = fromIncrements(all.reduce((a, b) => a + b, 0), set.step);
-		throw OffsetInputError.of('target', target, target > total
-			? `is taller than every block of the ${set.label} stacked together (${total} ${unit})`
-			: `cannot be built from the ${set.label}: no combination of its blocks wrings to exactly ${target} ${unit}`);
+		const total = fromIncrements(
+			all.reduce((a, b) => a + b, 0),
+			set.step
+		);
+		throw OffsetInputError.of(
+			'target',
+			target,
+			target > total
+				? `is taller than every block of the ${set.label} stacked together (${total} ${unit})`
+				: `cannot be built from the ${set.label}: no combination of its blocks wrings to exactly ${target} ${unit}`
+		);
 	}
 	return stack.map((c) => fromIncrements(c, set.step));
 }

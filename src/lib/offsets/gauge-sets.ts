@@ -75,7 +75,14 @@ export const GAUGE_SETS: Readonly<Record<string, GaugeSet>> = {
 	}
 };
 
-const ALIASES: Record<string, string> = { '81': 'inch-81', 'INCH-81': 'inch-81', 'INCH81': 'inch-81', M87: 'M87', M88: 'M88', M112: 'M112' };
+const ALIASES: Record<string, string> = {
+	'81': 'inch-81',
+	'INCH-81': 'inch-81',
+	INCH81: 'inch-81',
+	M87: 'M87',
+	M88: 'M88',
+	M112: 'M112'
+};
 
 /** The set for a name ("inch-81" or "81", "M87", "M88", "M112"; any case), or undefined. */
 export function findGaugeSet(name: string): GaugeSet | undefined {

@@ -63,20 +63,33 @@ function workWords(style: ControlStyle, register: string): string | null {
  * @throws OffsetInputError when the table's convention differs from the machine's, a register
  *   has no form in the machine's control style, or a value is beyond the machine's Z travel
  */
-export function loadProgram(machine: Machine, table: OffsetTable, options: LoadProgramOptions = {}): string {
+export function loadProgram(
+	machine: Machine,
+	table: OffsetTable,
+	options: LoadProgramOptions = {}
+): string {
 	const m = parseMachine(machine);
 	let t = normalizeTable(table);
 	const o = parseInput(loadProgramOptionsSchema, options ?? {}, 'options');
 	const style: ControlStyle = m.controlStyle ?? 'rs274ngc';
 	const resolution = resolutionFor(m.units, m.resolution);
 	if (m.convention !== undefined && m.convention !== t.convention) {
-		throw OffsetInputError.of('table.convention', t.convention, `differs from ${machineName(m)}, which uses ${m.convention}: convert the table before loading it`);
+		throw OffsetInputError.of(
+			'table.convention',
+			t.convention,
+			`differs from ${machineName(m)}, which uses ${m.convention}: convert the table before loading it`
+		);
 	}
 	const converted = t.units !== m.units;
 	if (converted) t = convertTableUnits(t, m.units, resolution);
 	if (t.convention === 'master-tool' && t.masterTool !== undefined && !(t.masterTool in t.tools)) {
 		// write the master's 0 too, so the control cannot keep an old value there
-		t = { ...t, tools: Object.fromEntries(Object.entries({ ...t.tools, [t.masterTool]: 0 }).sort(([a], [b]) => Number(a) - Number(b))) };
+		t = {
+			...t,
+			tools: Object.fromEntries(
+				Object.entries({ ...t.tools, [t.masterTool]: 0 }).sort(([a], [b]) => Number(a) - Number(b))
+			)
+		};
 	}
 
 	const { min, max } = travelLimits(m);
@@ -88,15 +101,29 @@ export function loadProgram(machine: Machine, table: OffsetTable, options: LoadP
 	for (const [register, value] of Object.entries(t.work)) {
 		const words = workWords(style, register);
 		if (words === null) {
-			issues.push({ field: `table.work.${register}`, value, message: `cannot be written for an ${CONTROL_STYLE_LABEL[style]} control: it has no G54.1 P registers (its G10 L2 P7–P9 are G59.1–G59.3). Use G54–G59 or set the machine to ISO-style.` });
+			issues.push({
+				field: `table.work.${register}`,
+				value,
+				message: `cannot be written for an ${CONTROL_STYLE_LABEL[style]} control: it has no G54.1 P registers (its G10 L2 P7–P9 are G59.1–G59.3). Use G54–G59 or set the machine to ISO-style.`
+			});
 			continue;
 		}
-		if (Math.abs(toMicro(value)) > span) issues.push({ field: `table.work.${register}`, value, message: `is beyond the Z travel of ${machineName(m)} (${fmt(max - min)} ${m.units})` });
+		if (Math.abs(toMicro(value)) > span)
+			issues.push({
+				field: `table.work.${register}`,
+				value,
+				message: `is beyond the Z travel of ${machineName(m)} (${fmt(max - min)} ${m.units})`
+			});
 		body.push(`${words} Z${fmt(value)}`);
 	}
 	if (Object.keys(t.tools).length > 0) body.push('(TOOL LENGTH OFFSETS)');
 	for (const [h, value] of Object.entries(t.tools)) {
-		if (Math.abs(toMicro(value)) > span) issues.push({ field: `table.tools.${h}`, value, message: `is beyond the Z travel of ${machineName(m)} (${fmt(max - min)} ${m.units})` });
+		if (Math.abs(toMicro(value)) > span)
+			issues.push({
+				field: `table.tools.${h}`,
+				value,
+				message: `is beyond the Z travel of ${machineName(m)} (${fmt(max - min)} ${m.units})`
+			});
 		body.push(style === 'iso' ? `G10 L10 P${h} R${fmt(value)}` : `G10 L1 P${h} Z${fmt(value)}`);
 	}
 	if (issues.length > 0) throw new OffsetInputError(issues);
@@ -108,8 +135,10 @@ export function loadProgram(machine: Machine, table: OffsetTable, options: LoadP
 	lines.push(`(${commentText(`DATUMKEEP LOAD PROGRAM ${o.title ?? m.name ?? ''}`)})`);
 	lines.push(`(STYLE ${style === 'iso' ? 'ISO' : 'RS274NGC'})`);
 	lines.push(`(CONVENTION ${t.convention.toUpperCase()})`);
-	if (t.convention === 'master-tool' && t.masterTool !== undefined) lines.push(`(MASTER TOOL H${t.masterTool})`);
-	if (converted) lines.push(`(VALUES CONVERTED FROM ${table.units.toUpperCase()} TO ${m.units.toUpperCase()})`);
+	if (t.convention === 'master-tool' && t.masterTool !== undefined)
+		lines.push(`(MASTER TOOL H${t.masterTool})`);
+	if (converted)
+		lines.push(`(VALUES CONVERTED FROM ${table.units.toUpperCase()} TO ${m.units.toUpperCase()})`);
 	for (const c of LOAD_PROGRAM_CAUTIONS) lines.push(`(${c})`);
 	if (style === 'iso') lines.push('(LENGTH WEAR IS NOT CHANGED - CHECK IT IS ZERO OR STILL RIGHT)');
 	lines.push(`${m.units === 'inch' ? 'G20' : 'G21'} G90`);

@@ -25,12 +25,19 @@ function withinTravel(machine: Machine | undefined, field: string, value: number
 	if (!machine) return;
 	const { min, max } = travelLimits(machine);
 	if (value < min || value > max) {
-		throw OffsetInputError.of(field, value, `is outside the Z travel of ${machineName(machine)} (${min} to ${max}); a reading must lie within travel`);
+		throw OffsetInputError.of(
+			field,
+			value,
+			`is outside the Z travel of ${machineName(machine)} (${min} to ${max}); a reading must lie within travel`
+		);
 	}
 }
 
 function output(micro: number, units: Units, resolution?: number, machine?: Machine): number {
-	return roundToResolution(fromMicro(micro), resolutionFor(units, resolution ?? machine?.resolution));
+	return roundToResolution(
+		fromMicro(micro),
+		resolutionFor(units, resolution ?? machine?.resolution)
+	);
 }
 
 function needed(field: string, value: number | undefined, why: string): number {
@@ -38,8 +45,10 @@ function needed(field: string, value: number | undefined, why: string): number {
 	return toMicro(value, field);
 }
 
-const R_WHY = 'is needed for the gauge-length convention: R = reading of a tool or probe of known length on the reference, minus setter height, minus its length';
-const M_WHY = "is needed for the master-tool convention: the master tool's reading on the reference, minus any setter height";
+const R_WHY =
+	'is needed for the gauge-length convention: R = reading of a tool or probe of known length on the reference, minus setter height, minus its length';
+const M_WHY =
+	"is needed for the master-tool convention: the master tool's reading on the reference, minus any setter height";
 
 /**
  * R, the gauge-line machine Z on the reference, from a tool or probe of known length touched
@@ -54,14 +63,21 @@ export function referenceGaugeLineZFromTouch(input: {
 	machine?: Machine;
 }): number {
 	const i = parseInput(
-		toolTouchSchema.pick({ units: true, touchZ: true, setterHeight: true, resolution: true, machine: true }).extend({
-			toolLength: toolTouchSchema.shape.touchZ.positive('must be greater than zero')
-		}),
+		toolTouchSchema
+			.pick({ units: true, touchZ: true, setterHeight: true, resolution: true, machine: true })
+			.extend({
+				toolLength: toolTouchSchema.shape.touchZ.positive('must be greater than zero')
+			}),
 		input,
 		'input'
 	);
 	withinTravel(i.machine, 'touchZ', i.touchZ);
-	return output(toMicro(i.touchZ) - toMicro(i.setterHeight ?? 0) - toMicro(i.toolLength), i.units, i.resolution, i.machine);
+	return output(
+		toMicro(i.touchZ) - toMicro(i.setterHeight ?? 0) - toMicro(i.toolLength),
+		i.units,
+		i.resolution,
+		i.machine
+	);
 }
 
 /**
@@ -89,7 +105,11 @@ export function toolOffsetFromTouch(input: {
 	if (i.convention === 'gauge-length') {
 		h = tipOnReference - needed('referenceGaugeLineZ', i.referenceGaugeLineZ, R_WHY);
 		if (h <= 0) {
-			throw OffsetInputError.of('touchZ', i.touchZ, `gives a tool length of ${fromMicro(h)} ${i.units}; the tip cannot be at or above the gauge line: check R and the setter height`);
+			throw OffsetInputError.of(
+				'touchZ',
+				i.touchZ,
+				`gives a tool length of ${fromMicro(h)} ${i.units}; the tip cannot be at or above the gauge line: check R and the setter height`
+			);
 		}
 	} else if (i.convention === 'master-tool') {
 		h = tipOnReference - needed('masterTouchZ', i.masterTouchZ, M_WHY);
@@ -114,7 +134,9 @@ export function zeroHeightFromReadings(input: {
 	withinTravel(i.machine, 'referenceZ', i.referenceZ);
 	withinTravel(i.machine, 'partTopZ', i.partTopZ);
 	const h =
-		toMicro(i.partTopZ) - toMicro(i.partSetterHeight ?? 0) - (toMicro(i.referenceZ) - toMicro(i.referenceSetterHeight ?? 0));
+		toMicro(i.partTopZ) -
+		toMicro(i.partSetterHeight ?? 0) -
+		(toMicro(i.referenceZ) - toMicro(i.referenceSetterHeight ?? 0));
 	return output(h, i.units, i.resolution, i.machine);
 }
 
@@ -125,7 +147,8 @@ function workFromHeight(
 	masterTouchZ: number | undefined
 ): number {
 	if (convention === 'reference-touch') return h;
-	if (convention === 'gauge-length') return needed('referenceGaugeLineZ', referenceGaugeLineZ, R_WHY) + h;
+	if (convention === 'gauge-length')
+		return needed('referenceGaugeLineZ', referenceGaugeLineZ, R_WHY) + h;
 	return needed('masterTouchZ', masterTouchZ, M_WHY) + h;
 }
 
@@ -148,7 +171,12 @@ export function workOffsetZFromReadings(input: {
 }): number {
 	const i = parseInput(workFromReadingsSchema, input, 'input');
 	const h = toMicro(zeroHeightFromReadings(input));
-	return output(workFromHeight(i.convention, h, i.referenceGaugeLineZ, i.masterTouchZ), i.units, i.resolution, i.machine);
+	return output(
+		workFromHeight(i.convention, h, i.referenceGaugeLineZ, i.masterTouchZ),
+		i.units,
+		i.resolution,
+		i.machine
+	);
 }
 
 /**
@@ -168,8 +196,15 @@ export function workOffsetZFromRelative(input: {
 	resolution?: number;
 }): number {
 	const i = parseInput(workFromRelativeSchema, input, 'input');
-	const h = toMicro(i.relativeReading) - toMicro(i.partSetterHeight ?? 0) + toMicro(i.zeroedOnSetterHeight ?? 0);
-	return output(workFromHeight(i.convention, h, i.referenceGaugeLineZ, i.masterTouchZ), i.units, i.resolution);
+	const h =
+		toMicro(i.relativeReading) -
+		toMicro(i.partSetterHeight ?? 0) +
+		toMicro(i.zeroedOnSetterHeight ?? 0);
+	return output(
+		workFromHeight(i.convention, h, i.referenceGaugeLineZ, i.masterTouchZ),
+		i.units,
+		i.resolution
+	);
 }
 
 /**
@@ -187,7 +222,12 @@ export function workOffsetZFromPartTouch(input: {
 }): number {
 	const i = parseInput(workFromPartTouchSchema, input, 'input');
 	withinTravel(i.machine, 'partTopZ', i.partTopZ);
-	return output(toMicro(i.partTopZ) - toMicro(i.setterHeight ?? 0) - toMicro(i.toolOffset), i.units, i.resolution, i.machine);
+	return output(
+		toMicro(i.partTopZ) - toMicro(i.setterHeight ?? 0) - toMicro(i.toolOffset),
+		i.units,
+		i.resolution,
+		i.machine
+	);
 }
 
 /** What re-establishing the reference did to a table. */
@@ -224,7 +264,10 @@ export function reestablishReference(input: {
 	const i = parseInput(reestablishSchema, input, 'input');
 	const t = normalizeTable(i.table, 'input.table');
 	const d = toMicro(i.newReferenceZ) - toMicro(i.previousReferenceZ);
-	const dep = REFERENCE_DEPENDENCE[t.convention][i.cause === 'machine-shift' ? 'machineShift' : 'surfaceMoved'];
+	const dep =
+		REFERENCE_DEPENDENCE[t.convention][
+			i.cause === 'machine-shift' ? 'machineShift' : 'surfaceMoved'
+		];
 	// surface-moved changes h_k by −d; machine-shift changes absolute work offsets by +d
 	const workDelta = !dep.work ? 0 : i.cause === 'surface-moved' ? -d : d;
 	const toolDelta = dep.tools ? d : 0;
@@ -234,13 +277,22 @@ export function reestablishReference(input: {
 	for (const [k, v] of Object.entries(t.tools)) tools[k] = fromMicro(toMicro(v) + toolDelta);
 	const changed = {
 		work: d !== 0 && dep.work ? Object.keys(t.work) : [],
-		tools: d !== 0 && dep.tools ? Object.keys(t.tools).filter((h) => !(t.convention === 'master-tool' && h === t.masterTool)) : []
+		tools:
+			d !== 0 && dep.tools
+				? Object.keys(t.tools).filter(
+						(h) => !(t.convention === 'master-tool' && h === t.masterTool)
+					)
+				: []
 	};
 	const table: OffsetTable = { ...t, work, tools };
 	const signed = (m: number) => `${m > 0 ? '+' : ''}${fromMicro(m)} ${t.units}`;
 	const parts = [
-		changed.tools.length ? `${changed.tools.length} tool length offset(s) change by ${signed(toolDelta)}` : '',
-		changed.work.length ? `${changed.work.length} work offset(s) change by ${signed(workDelta)}` : ''
+		changed.tools.length
+			? `${changed.tools.length} tool length offset(s) change by ${signed(toolDelta)}`
+			: '',
+		changed.work.length
+			? `${changed.work.length} work offset(s) change by ${signed(workDelta)}`
+			: ''
 	].filter(Boolean);
 	const message =
 		d === 0

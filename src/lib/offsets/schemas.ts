@@ -28,7 +28,9 @@ export const lengthSchema = z.number();
 export const positiveLengthSchema = z.number().positive('must be greater than zero');
 
 /** A work register as typed: G54–G59 or G54.1 P1–P48 (any spacing or case). */
-export const registerSchema = z.string().refine((s) => canonicalRegister(s) !== null, REGISTER_RULE);
+export const registerSchema = z
+	.string()
+	.refine((s) => canonicalRegister(s) !== null, REGISTER_RULE);
 
 /** An H number as typed: 1–9999, "H3" or "3". */
 export const hNumberSchema = z.string().refine((s) => canonicalH(s) !== null, H_RULE);
@@ -52,19 +54,31 @@ export const offsetTableSchema = z
 	})
 	.superRefine((t, ctx) => {
 		for (const key of Object.keys(t.work)) {
-			if (canonicalRegister(key) === null) ctx.addIssue({ code: 'custom', path: ['work', key], message: REGISTER_RULE, input: key });
+			if (canonicalRegister(key) === null)
+				ctx.addIssue({ code: 'custom', path: ['work', key], message: REGISTER_RULE, input: key });
 		}
 		for (const key of Object.keys(t.tools)) {
-			if (canonicalH(key) === null) ctx.addIssue({ code: 'custom', path: ['tools', key], message: H_RULE, input: key });
+			if (canonicalH(key) === null)
+				ctx.addIssue({ code: 'custom', path: ['tools', key], message: H_RULE, input: key });
 		}
 		if (t.convention === 'master-tool') {
 			if (t.masterTool === undefined) {
-				ctx.addIssue({ code: 'custom', path: ['masterTool'], message: 'is required for the master-tool convention (the H number whose offset is 0)', input: undefined });
+				ctx.addIssue({
+					code: 'custom',
+					path: ['masterTool'],
+					message: 'is required for the master-tool convention (the H number whose offset is 0)',
+					input: undefined
+				});
 			} else {
 				const h = canonicalH(t.masterTool);
 				const entry = Object.entries(t.tools).find(([k]) => canonicalH(k) === h);
 				if (entry && entry[1] !== 0) {
-					ctx.addIssue({ code: 'custom', path: ['tools', entry[0]], message: 'is the master tool, whose offset must be 0 in the master-tool convention', input: entry[1] });
+					ctx.addIssue({
+						code: 'custom',
+						path: ['tools', entry[0]],
+						message: 'is the master tool, whose offset must be 0 in the master-tool convention',
+						input: entry[1]
+					});
 				}
 			}
 		}

@@ -30,10 +30,14 @@ describe('spindleZ', () => {
 
 	test('property: sum is exact at the 0.0001 in increment', () => {
 		fc.assert(
-			fc.property(fc.integer({ min: -200_000, max: 200_000 }), fc.integer({ min: -200_000, max: 200_000 }), (w, h) => {
-				expect(Math.round(spindleZ(w / 10000, h / 10000) * 10000)).toBe(w + h);
-				expect(spindleZ(w / 10000, h / 10000)).toBe(Number(((w + h) / 10000).toFixed(4)));
-			})
+			fc.property(
+				fc.integer({ min: -200_000, max: 200_000 }),
+				fc.integer({ min: -200_000, max: 200_000 }),
+				(w, h) => {
+					expect(Math.round(spindleZ(w / 10000, h / 10000) * 10000)).toBe(w + h);
+					expect(spindleZ(w / 10000, h / 10000)).toBe(Number(((w + h) / 10000).toFixed(4)));
+				}
+			)
 		);
 	});
 

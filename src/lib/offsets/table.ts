@@ -25,7 +25,8 @@ export function findClashes(table: Pick<OffsetTable, 'work' | 'tools'>): KeyClas
 			if (c === null) continue;
 			groups.set(c, [...(groups.get(c) ?? []), key]);
 		}
-		for (const [canonical, keys] of groups) if (keys.length > 1) clashes.push({ section, canonical, keys });
+		for (const [canonical, keys] of groups)
+			if (keys.length > 1) clashes.push({ section, canonical, keys });
 	}
 	return clashes;
 }

@@ -2,7 +2,13 @@ import fc from 'fast-check';
 import { describe, expect, test } from 'vitest';
 import { formatLength, formatWithUnits, decimalsFor } from './format';
 import { OffsetInputError } from './errors';
-import { DEFAULT_RESOLUTION, fromIncrements, roundToResolution, toIncrements, toUnits } from './units';
+import {
+	DEFAULT_RESOLUTION,
+	fromIncrements,
+	roundToResolution,
+	toIncrements,
+	toUnits
+} from './units';
 
 describe('inch and mm', () => {
 	test('1 in = 25.4 mm exactly', () => {

@@ -42,7 +42,8 @@ function finite(value: number, field: string): void {
 
 function resolutionOf(resolution: number | Units, field = 'resolution'): Decimal {
 	const r = typeof resolution === 'string' ? DEFAULT_RESOLUTION[resolution] : resolution;
-	if (r === undefined) throw OffsetInputError.of(field, resolution, 'must be "inch", "mm" or a positive number');
+	if (r === undefined)
+		throw OffsetInputError.of(field, resolution, 'must be "inch", "mm" or a positive number');
 	finite(r, field);
 	if (r <= 0) throw OffsetInputError.of(field, r, 'must be greater than zero');
 	return toDecimal(r);
@@ -70,7 +71,8 @@ export function toIncrements(value: number, resolution: number | Units): number 
 
 /** `count` increments of `resolution` as a number that prints exactly (12345 × 0.0001 → 1.2345). */
 export function fromIncrements(count: number, resolution: number | Units): number {
-	if (!Number.isSafeInteger(count)) throw OffsetInputError.of('count', count, 'must be a whole number');
+	if (!Number.isSafeInteger(count))
+		throw OffsetInputError.of('count', count, 'must be a whole number');
 	const r = resolutionOf(resolution);
 	return fromDecimal({ mantissa: BigInt(count) * r.mantissa, exponent: r.exponent });
 }
@@ -120,10 +122,7 @@ export function toUnits(
 	const step = resolutionOf(resolution === 'control' ? to : resolution);
 	// count = (num/den × 10^exponent) / (step.mantissa × 10^step.exponent), rounded half away
 	const e = Math.min(exponent, step.exponent);
-	const count = divRound(
-		num * pow10(exponent - e),
-		den * step.mantissa * pow10(step.exponent - e)
-	);
+	const count = divRound(num * pow10(exponent - e), den * step.mantissa * pow10(step.exponent - e));
 	return fromDecimal({ mantissa: count * step.mantissa, exponent: step.exponent });
 }
 

@@ -31,14 +31,19 @@ function friendly(issue: z.core.$ZodIssue, value: unknown): string {
 export function toIssues(error: z.ZodError, input: unknown, root: string): OffsetIssue[] {
 	return error.issues.map((issue) => {
 		const path = issue.path;
-		const value = 'input' in issue && issue.input !== undefined ? issue.input : valueAt(input, path);
+		const value =
+			'input' in issue && issue.input !== undefined ? issue.input : valueAt(input, path);
 		const field = [root, ...path.map(String)].filter((p) => p !== '').join('.');
 		return { field: field || root, value, message: friendly(issue, value) };
 	});
 }
 
 /** Parses `input` with `schema` or throws OffsetInputError naming every bad field. */
-export function parseInput<S extends z.ZodType>(schema: S, input: unknown, root: string): z.output<S> {
+export function parseInput<S extends z.ZodType>(
+	schema: S,
+	input: unknown,
+	root: string
+): z.output<S> {
 	const result = schema.safeParse(input);
 	if (!result.success) throw new OffsetInputError(toIssues(result.error, input, root));
 	return result.data;
@@ -48,6 +53,7 @@ export function parseInput<S extends z.ZodType>(schema: S, input: unknown, root:
 export function requireFinite(value: unknown, field: string): number {
 	if (typeof value !== 'number') throw OffsetInputError.of(field, value, 'must be a number');
 	if (Number.isNaN(value)) throw OffsetInputError.of(field, value, 'is not a number (NaN)');
-	if (!Number.isFinite(value)) throw OffsetInputError.of(field, value, 'is infinite; it must be a finite number');
+	if (!Number.isFinite(value))
+		throw OffsetInputError.of(field, value, 'is infinite; it must be a finite number');
 	return value;
 }
