@@ -286,3 +286,16 @@ describe('checkOffsets', () => {
 		expect(() => checkOffsets(travel)).toThrow(/zTravel/);
 	});
 });
+
+describe('checkOffsets input errors', () => {
+	test('missing and malformed timestamps and travel say why', () => {
+		const i = base();
+		expect(() => checkOffsets({ ...i, now: undefined as never })).toThrow(/input.now: is required/);
+		expect(() => checkOffsets({ ...i, now: 'yesterday' })).toThrow(
+			/input.now: must be an ISO 8601 date-time/
+		);
+		expect(() => checkOffsets({ ...i, machine: { ...i.machine, zTravel: Infinity } })).toThrow(
+			/input.machine.zTravel: is infinite/
+		);
+	});
+});

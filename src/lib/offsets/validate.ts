@@ -21,6 +21,13 @@ function friendly(issue: z.core.$ZodIssue, value: unknown): string {
 		if (value === undefined) return `is required (${issue.expected})`;
 		return `must be ${issue.expected === 'number' ? 'a number' : issue.expected}`;
 	}
+	if (issue.code === 'invalid_union') {
+		if (value === undefined) return 'is required';
+		// Say why the most likely alternative failed: a specific rule beats "wrong type".
+		const inner = issue.errors.flat();
+		const specific = inner.find((i) => i.code !== 'invalid_type' && i.code !== 'invalid_union');
+		return specific ? specific.message : inner[0] ? friendly(inner[0], value) : issue.message;
+	}
 	if (issue.code === 'invalid_value' && 'values' in issue) {
 		return `must be one of ${issue.values.map((v) => JSON.stringify(v)).join(', ')}`;
 	}
