@@ -4,7 +4,8 @@ import { explainDbError, exitWith, guardDatabaseUrl } from '$lib/server/cli/guar
 
 const url = new URL(guardDatabaseUrl());
 const name = decodeURIComponent(url.pathname.replace(/^\//, ''));
-if (!/^[a-z_][a-z0-9_]*$/.test(name)) exitWith(`database name "${name}" in DATABASE_URL is not a plain name.`);
+if (!/^[a-z_][a-z0-9_]*$/.test(name))
+	exitWith(`database name "${name}" in DATABASE_URL is not a plain name.`);
 const adminUrl = new URL(url);
 adminUrl.pathname = '/postgres';
 const knex = createDb(adminUrl.toString());

@@ -17,7 +17,8 @@ export const newPasswordField = z
 	.regex(/[A-Za-z]/, `Password needs a letter: use ${PASSWORD_RULE}.`)
 	.regex(/[0-9]/, `Password needs a digit: use ${PASSWORD_RULE}.`);
 
-export const SLUG_RULE = '2–48 lowercase letters, digits or hyphens, starting and ending with a letter or digit';
+export const SLUG_RULE =
+	'2–48 lowercase letters, digits or hyphens, starting and ending with a letter or digit';
 export const slugField = z
 	.string()
 	.trim()
@@ -30,7 +31,11 @@ export const signInSchema = z.object({
 });
 
 export const signUpSchema = z.object({
-	name: z.string().trim().min(1, 'Enter your name.').max(120, 'Name too long (120 characters at most).'),
+	name: z
+		.string()
+		.trim()
+		.min(1, 'Enter your name.')
+		.max(120, 'Name too long (120 characters at most).'),
 	email: emailField,
 	password: newPasswordField,
 	shopName: z

@@ -9,8 +9,12 @@ export const changeRoleSchema = z.object({
 	membershipId: z.coerce.number().int().positive('Unknown member.'),
 	role: roleField
 });
-export const removeMemberSchema = z.object({ membershipId: z.coerce.number().int().positive('Unknown member.') });
-export const invitationIdSchema = z.object({ invitationId: z.coerce.number().int().positive('Unknown invitation.') });
+export const removeMemberSchema = z.object({
+	membershipId: z.coerce.number().int().positive('Unknown member.')
+});
+export const invitationIdSchema = z.object({
+	invitationId: z.coerce.number().int().positive('Unknown invitation.')
+});
 
 /** Accepting an invitation: a name and password only when the e-mail has no account yet. */
 export const acceptInvitationSchema = z.object({

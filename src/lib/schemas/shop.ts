@@ -1,4 +1,3 @@
-import { z } from 'zod';
 import { signUpSchema } from './auth';
 
 /** A signed-in person starting another shop: only the shop's fields. */

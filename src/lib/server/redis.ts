@@ -5,7 +5,11 @@ let client: Redis | undefined;
 
 /** The app's shared Redis connection (rate-limit counters; BullMQ producers make their own). */
 export function redis(): Redis {
-	client ??= new Redis(config.redisUrl, { lazyConnect: false, maxRetriesPerRequest: 2, enableOfflineQueue: true });
+	client ??= new Redis(config.redisUrl, {
+		lazyConnect: false,
+		maxRetriesPerRequest: 2,
+		enableOfflineQueue: true
+	});
 	return client;
 }
 

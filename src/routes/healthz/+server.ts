@@ -5,7 +5,10 @@ import type { RequestHandler } from './$types';
 
 async function probe(fn: () => Promise<unknown>): Promise<{ ok: boolean; error?: string }> {
 	try {
-		await Promise.race([fn(), new Promise((_, reject) => setTimeout(() => reject(new Error('timed out after 2 s')), 2000))]);
+		await Promise.race([
+			fn(),
+			new Promise((_, reject) => setTimeout(() => reject(new Error('timed out after 2 s')), 2000))
+		]);
 		return { ok: true };
 	} catch (e) {
 		// The reason, not the stack: this route is public.
@@ -15,10 +18,18 @@ async function probe(fn: () => Promise<unknown>): Promise<{ ok: boolean; error?:
 
 /** Liveness for people and monitors: database and Redis reachable. 503 when either is not. */
 export const GET: RequestHandler = async () => {
-	const [database, redisStatus] = await Promise.all([probe(() => db().raw('select 1')), probe(() => redis().ping())]);
+	const [database, redisStatus] = await Promise.all([
+		probe(() => db().raw('select 1')),
+		probe(() => redis().ping())
+	]);
 	const ok = database.ok && redisStatus.ok;
 	return json(
-		{ status: ok ? 'ok' : 'degraded', database, redis: redisStatus, time: new Date().toISOString() },
+		{
+			status: ok ? 'ok' : 'degraded',
+			database,
+			redis: redisStatus,
+			time: new Date().toISOString()
+		},
 		{ status: ok ? 200 : 503, headers: { 'cache-control': 'no-store' } }
 	);
 };

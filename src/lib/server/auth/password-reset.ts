@@ -33,10 +33,13 @@ export async function requestPasswordReset(knex: Knex, email: string): Promise<{
 	return { token };
 }
 
-export type ResetCheck = { ok: true; userId: number } | { ok: false; reason: 'unknown' | 'expired' | 'used' };
+export type ResetCheck =
+	{ ok: true; userId: number } | { ok: false; reason: 'unknown' | 'expired' | 'used' };
 
 export async function checkResetToken(knex: Knex, token: string): Promise<ResetCheck> {
-	const r = await knex('public.password_resets').where({ token_hash: hashToken(token) }).first('user_id', 'expires_at', 'used_at');
+	const r = await knex('public.password_resets')
+		.where({ token_hash: hashToken(token) })
+		.first('user_id', 'expires_at', 'used_at');
 	if (!r) return { ok: false, reason: 'unknown' };
 	if (r.used_at) return { ok: false, reason: 'used' };
 	if (new Date(r.expires_at).getTime() < Date.now()) return { ok: false, reason: 'expired' };
@@ -44,7 +47,11 @@ export async function checkResetToken(knex: Knex, token: string): Promise<ResetC
 }
 
 /** Sets the new password and uses up this token and every other open one of the same person. */
-export async function completePasswordReset(knex: Knex, token: string, password: string): Promise<ResetCheck> {
+export async function completePasswordReset(
+	knex: Knex,
+	token: string,
+	password: string
+): Promise<ResetCheck> {
 	const passwordHash = await hashPassword(password);
 	return knex.transaction(async (trx) => {
 		const [row] = await trx('public.password_resets')
@@ -58,7 +65,10 @@ export async function completePasswordReset(knex: Knex, token: string, password:
 			return again.ok ? { ok: false, reason: 'used' } : again;
 		}
 		await trx('public.users').where({ id: row.user_id }).update({ password_hash: passwordHash });
-		await trx('public.password_resets').where({ user_id: row.user_id }).whereNull('used_at').update({ used_at: trx.fn.now() });
+		await trx('public.password_resets')
+			.where({ user_id: row.user_id })
+			.whereNull('used_at')
+			.update({ used_at: trx.fn.now() });
 		return { ok: true, userId: Number(row.user_id) };
 	});
 }

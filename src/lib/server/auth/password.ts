@@ -7,7 +7,10 @@ export function hashPassword(password: string): Promise<string> {
 	return bcrypt.hash(password, COST);
 }
 
-export function verifyPassword(password: string, hash: string | null | undefined): Promise<boolean> {
+export function verifyPassword(
+	password: string,
+	hash: string | null | undefined
+): Promise<boolean> {
 	// Compare against a fixed hash when the user is unknown, so timing does not reveal whether
 	// the e-mail has an account.
 	return bcrypt.compare(password, hash ?? DUMMY_HASH);

@@ -1,7 +1,7 @@
 import RedisMock from 'ioredis-mock';
 import type { Redis } from 'ioredis';
 import { beforeEach, describe, expect, it } from 'vitest';
-import { checkSignIn, hit, SIGN_IN_LIMITS, signInKeys } from './rate-limit';
+import { hit, recordSignInFailure, SIGN_IN_LIMITS, signInBlocked, signInKeys } from './rate-limit';
 
 describe('sign-in rate limiter (ioredis-mock, unit)', () => {
 	let redis: Redis;
@@ -10,7 +10,7 @@ describe('sign-in rate limiter (ioredis-mock, unit)', () => {
 		await redis.flushall();
 	});
 
-	it('allows up to the limit, then refuses, with a retry time inside the window', async () => {
+	it('a fixed window allows up to the limit, then refuses with a retry time inside the window', async () => {
 		const limit = { max: 3, windowSeconds: 60 };
 		const results = [];
 		for (let i = 0; i < 4; i++) results.push(await hit(redis, 'k', limit));
@@ -19,19 +19,30 @@ describe('sign-in rate limiter (ioredis-mock, unit)', () => {
 		expect(results[3].retryAfterSeconds).toBeLessThanOrEqual(60);
 	});
 
-	it('limits per e-mail regardless of letter case', async () => {
+	it('blocks an e-mail after its failures, whatever the letter case or address', async () => {
 		for (let i = 0; i < SIGN_IN_LIMITS.perEmail.max; i++) {
-			expect((await checkSignIn(redis, 'Ada@Example.test', `10.0.0.${i}`)).allowed).toBe(true);
+			expect((await signInBlocked(redis, 'Ada@Example.test', `10.0.0.${i}`)).allowed).toBe(true);
+			await recordSignInFailure(redis, 'Ada@Example.test', `10.0.0.${i}`);
 		}
-		expect((await checkSignIn(redis, 'ada@example.test', '10.0.1.1')).allowed).toBe(false);
-		expect(await redis.get(signInKeys.email('ADA@example.test'))).toBe(String(SIGN_IN_LIMITS.perEmail.max + 1));
+		const blocked = await signInBlocked(redis, 'ada@example.test', '10.0.1.1');
+		expect(blocked.allowed).toBe(false);
+		expect(blocked.retryAfterSeconds).toBeGreaterThan(0);
+		expect(await redis.get(signInKeys.email('ADA@example.test'))).toBe(
+			String(SIGN_IN_LIMITS.perEmail.max)
+		);
+		expect((await signInBlocked(redis, 'other@example.test', '10.0.1.1')).allowed).toBe(true);
 	});
 
-	it('limits per address across many e-mails', async () => {
-		for (let i = 0; i < SIGN_IN_LIMITS.perAddress.max; i++) {
-			expect((await checkSignIn(redis, `user${i}@example.test`, '192.0.2.7')).allowed).toBe(true);
-		}
-		expect((await checkSignIn(redis, 'someone@example.test', '192.0.2.7')).allowed).toBe(false);
-		expect((await checkSignIn(redis, 'someone@example.test', '192.0.2.8')).allowed).toBe(true);
+	it('blocks an address after failures spread over many e-mails, and not its neighbour', async () => {
+		for (let i = 0; i < SIGN_IN_LIMITS.perAddress.max; i++)
+			await recordSignInFailure(redis, `user${i}@example.test`, '192.0.2.7');
+		expect((await signInBlocked(redis, 'someone@example.test', '192.0.2.7')).allowed).toBe(false);
+		expect((await signInBlocked(redis, 'someone@example.test', '192.0.2.8')).allowed).toBe(true);
+	});
+
+	it('never counts a check by itself (successful sign-ins do not use up the budget)', async () => {
+		for (let i = 0; i < 50; i++) await signInBlocked(redis, 'busy@example.test', '192.0.2.9');
+		expect((await signInBlocked(redis, 'busy@example.test', '192.0.2.9')).allowed).toBe(true);
+		expect(await redis.get(signInKeys.address('192.0.2.9'))).toBeNull();
 	});
 });

@@ -23,7 +23,12 @@ export interface LimitResult {
  * MULTI, and the window only starts at the first hit (EXPIRE NX).
  */
 export async function hit(redis: Redis, key: string, limit: RateLimit): Promise<LimitResult> {
-	const result = await redis.multi().incr(key).expire(key, limit.windowSeconds, 'NX').ttl(key).exec();
+	const result = await redis
+		.multi()
+		.incr(key)
+		.expire(key, limit.windowSeconds, 'NX')
+		.ttl(key)
+		.exec();
 	const count = Number(result?.[0]?.[1] ?? 0);
 	const ttl = Number(result?.[2]?.[1] ?? limit.windowSeconds);
 	return {
@@ -43,20 +48,45 @@ export const signInKeys = {
 };
 
 /**
- * Counts one sign-in attempt against both the e-mail and the address. Both counters move even
- * when one is already over, so an attacker cannot probe which one tripped.
+ * Whether sign-in is blocked for this e-mail or address: only failed attempts count, so a shop
+ * whose whole crew signs in from one address each morning is never locked out by successes.
  */
-export async function checkSignIn(redis: Redis, email: string, address: string): Promise<LimitResult> {
-	const [byEmail, byAddress] = await Promise.all([
+export async function signInBlocked(
+	redis: Redis,
+	email: string,
+	address: string
+): Promise<LimitResult> {
+	const [byEmail, byAddress] = await redis.mget(
+		signInKeys.email(email),
+		signInKeys.address(address)
+	);
+	const overEmail = Number(byEmail ?? 0) >= SIGN_IN_LIMITS.perEmail.max;
+	const overAddress = Number(byAddress ?? 0) >= SIGN_IN_LIMITS.perAddress.max;
+	if (!overEmail && !overAddress) {
+		return {
+			allowed: true,
+			remaining: Math.min(
+				SIGN_IN_LIMITS.perEmail.max - Number(byEmail ?? 0),
+				SIGN_IN_LIMITS.perAddress.max - Number(byAddress ?? 0)
+			),
+			retryAfterSeconds: 0
+		};
+	}
+	const ttls = await Promise.all([
+		overEmail ? redis.ttl(signInKeys.email(email)) : 0,
+		overAddress ? redis.ttl(signInKeys.address(address)) : 0
+	]);
+	return { allowed: false, remaining: 0, retryAfterSeconds: Math.max(1, ...ttls) };
+}
+
+/** Counts one failed sign-in against both the e-mail and the address. */
+export async function recordSignInFailure(
+	redis: Redis,
+	email: string,
+	address: string
+): Promise<void> {
+	await Promise.all([
 		hit(redis, signInKeys.email(email), SIGN_IN_LIMITS.perEmail),
 		hit(redis, signInKeys.address(address), SIGN_IN_LIMITS.perAddress)
 	]);
-	return {
-		allowed: byEmail.allowed && byAddress.allowed,
-		remaining: Math.min(byEmail.remaining, byAddress.remaining),
-		retryAfterSeconds: Math.max(
-			byEmail.allowed ? 0 : byEmail.retryAfterSeconds,
-			byAddress.allowed ? 0 : byAddress.retryAfterSeconds
-		)
-	};
 }

@@ -19,7 +19,13 @@ export function createDb(url: string): Knex {
 	return knex({
 		client: 'pg',
 		connection: url,
-		pool: { min: 0, max: Number(process.env.DATABASE_POOL_MAX ?? 10) }
+		pool: { min: 0, max: Number(process.env.DATABASE_POOL_MAX ?? 10) },
+		log: {
+			// The caller reports connection failures in its own words; Knex's copy is a stack trace.
+			warn(message: unknown) {
+				if (!/Acquire connection error/.test(String(message))) console.warn(message);
+			}
+		}
 	});
 }
 

@@ -28,7 +28,9 @@ export async function sendEmail(knex: Knex, mail: LoggedEmail): Promise<boolean>
 	if (!row) return false;
 	try {
 		const id = await sendViaSes(mail);
-		await knex('public.email_log').where({ id: row.id }).update({ provider_message_id: id ?? null });
+		await knex('public.email_log')
+			.where({ id: row.id })
+			.update({ provider_message_id: id ?? null });
 		return true;
 	} catch (e) {
 		// Release the claim so a retry can send it.

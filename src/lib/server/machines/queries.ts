@@ -31,9 +31,15 @@ export async function listMachineSummaries(trx: Knex.Transaction): Promise<Machi
 			'm.resolution',
 			'm.convention',
 			'm.control_style',
-			trx.raw('(select count(*) from tools t where t.machine_id = m.id and t.archived_at is null)::int as tool_count'),
-			trx.raw('(select count(*) from fixtures f where f.machine_id = m.id and f.archived_at is null)::int as fixture_count'),
-			trx.raw('(select max(taken_at) from readings r where r.machine_id = m.id) as last_reading_at'),
+			trx.raw(
+				'(select count(*) from tools t where t.machine_id = m.id and t.archived_at is null)::int as tool_count'
+			),
+			trx.raw(
+				'(select count(*) from fixtures f where f.machine_id = m.id and f.archived_at is null)::int as fixture_count'
+			),
+			trx.raw(
+				'(select max(taken_at) from readings r where r.machine_id = m.id) as last_reading_at'
+			),
 			trx.raw(
 				'(select version from reference_surfaces rs where rs.machine_id = m.id order by version desc limit 1) as reference_version'
 			),
@@ -57,7 +63,9 @@ export async function listMachineSummaries(trx: Knex.Transaction): Promise<Machi
 		fixtureCount: r.fixture_count,
 		lastReadingAt: r.last_reading_at ? new Date(r.last_reading_at).toISOString() : null,
 		referenceVersion: r.reference_version ?? null,
-		referenceEstablishedAt: r.reference_established_at ? new Date(r.reference_established_at).toISOString() : null,
+		referenceEstablishedAt: r.reference_established_at
+			? new Date(r.reference_established_at).toISOString()
+			: null,
 		runningSetup: r.running_setup ?? null
 	}));
 }

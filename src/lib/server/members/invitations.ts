@@ -24,7 +24,10 @@ export interface PendingInvitation {
 	expired: boolean;
 }
 
-export async function listPendingInvitations(knex: Knex, shopId: number): Promise<PendingInvitation[]> {
+export async function listPendingInvitations(
+	knex: Knex,
+	shopId: number
+): Promise<PendingInvitation[]> {
 	const rows = await knex('public.invitations')
 		.where({ shop_id: shopId })
 		.whereNull('accepted_at')
@@ -42,7 +45,14 @@ export async function listPendingInvitations(knex: Knex, shopId: number): Promis
 	}));
 }
 
-async function mailInvitation(knex: Knex, shop: { id: number; name: string }, email: string, role: Role, token: string, by: Actor) {
+async function mailInvitation(
+	knex: Knex,
+	shop: { id: number; name: string },
+	email: string,
+	role: Role,
+	token: string,
+	by: Actor
+) {
 	const url = `${config.origin}/invitations/${token}`;
 	const mail = renderEmail({
 		subject: `${by.name} invited you to ${shop.name} on Datumkeep`,
@@ -92,14 +102,27 @@ export async function invite(
 		});
 	});
 	await withShop(shop, (trx) =>
-		audit(trx, { actorUserId: by.id, actorEmail: by.email, action: 'invitation.sent', target: email, detail: { role }, ip })
+		audit(trx, {
+			actorUserId: by.id,
+			actorEmail: by.email,
+			action: 'invitation.sent',
+			target: email,
+			detail: { role },
+			ip
+		})
 	);
 	await mailInvitation(knex, shop, email, role, token, by);
 	return { token, alreadyMember: false };
 }
 
 /** Sends a pending invitation again with a new link (the old link stops working). */
-export async function resendInvitation(knex: Knex, shop: ShopRef & { name: string }, invitationId: number, by: Actor, ip = '') {
+export async function resendInvitation(
+	knex: Knex,
+	shop: ShopRef & { name: string },
+	invitationId: number,
+	by: Actor,
+	ip = ''
+) {
 	const inv = await knex('public.invitations')
 		.where({ id: invitationId, shop_id: shop.id })
 		.whereNull('accepted_at')
@@ -110,7 +133,13 @@ export async function resendInvitation(knex: Knex, shop: ShopRef & { name: strin
 	return true;
 }
 
-export async function revokeInvitation(knex: Knex, shop: ShopRef, invitationId: number, by: Actor, ip = '') {
+export async function revokeInvitation(
+	knex: Knex,
+	shop: ShopRef,
+	invitationId: number,
+	by: Actor,
+	ip = ''
+) {
 	const [row] = await knex('public.invitations')
 		.where({ id: invitationId, shop_id: shop.id })
 		.whereNull('accepted_at')
@@ -119,7 +148,13 @@ export async function revokeInvitation(knex: Knex, shop: ShopRef, invitationId: 
 		.returning('email');
 	if (!row) return false;
 	await withShop(shop, (trx) =>
-		audit(trx, { actorUserId: by.id, actorEmail: by.email, action: 'invitation.revoked', target: row.email, ip })
+		audit(trx, {
+			actorUserId: by.id,
+			actorEmail: by.email,
+			action: 'invitation.revoked',
+			target: row.email,
+			ip
+		})
 	);
 	return true;
 }
@@ -135,18 +170,32 @@ export interface InvitationView {
 	hasAccount: boolean;
 }
 
-export type InvitationLookup = { ok: true; invitation: InvitationView } | { ok: false; reason: 'unknown' | 'expired' | 'used' };
+export type InvitationLookup =
+	{ ok: true; invitation: InvitationView } | { ok: false; reason: 'unknown' | 'expired' | 'used' };
 
 /** Finds the invitation a link points at. Unknown, revoked, used and expired links are told apart only as much as the invitee needs. */
 export async function lookupInvitation(knex: Knex, token: string): Promise<InvitationLookup> {
 	const r = await knex('public.invitations as i')
 		.join('public.shops as s', 's.id', 'i.shop_id')
 		.where('i.token_hash', hashToken(token))
-		.first('i.id', 'i.shop_id', 'i.email', 'i.role', 'i.expires_at', 'i.accepted_at', 'i.revoked_at', 's.name', 's.slug', 's.schema_name');
+		.first(
+			'i.id',
+			'i.shop_id',
+			'i.email',
+			'i.role',
+			'i.expires_at',
+			'i.accepted_at',
+			'i.revoked_at',
+			's.name',
+			's.slug',
+			's.schema_name'
+		);
 	if (!r || r.revoked_at) return { ok: false, reason: 'unknown' };
 	if (r.accepted_at) return { ok: false, reason: 'used' };
 	if (new Date(r.expires_at).getTime() < Date.now()) return { ok: false, reason: 'expired' };
-	const user = await knex('public.users').whereRaw('lower(email) = lower(?)', [r.email]).first('id');
+	const user = await knex('public.users')
+		.whereRaw('lower(email) = lower(?)', [r.email])
+		.first('id');
 	return {
 		ok: true,
 		invitation: {
@@ -182,7 +231,9 @@ export async function acceptInvitation(
 			.update({ accepted_at: trx.fn.now() })
 			.returning('id');
 		if (claimed.length === 0) return { error: 'used' as const };
-		let user = await trx('public.users').whereRaw('lower(email) = lower(?)', [inv.email]).first('id');
+		let user = await trx('public.users')
+			.whereRaw('lower(email) = lower(?)', [inv.email])
+			.first('id');
 		if (!user) {
 			if (!newAccount) throw new Error('an account is needed to accept this invitation');
 			[user] = await trx('public.users')
@@ -195,7 +246,14 @@ export async function acceptInvitation(
 			.onConflict(['user_id', 'shop_id'])
 			.ignore();
 		await trx.raw('set local search_path to ??, public', [inv.schemaName]);
-		await audit(trx, { actorUserId: userId, actorEmail: inv.email, action: 'invitation.accepted', target: inv.email, detail: { role: inv.role }, ip });
+		await audit(trx, {
+			actorUserId: userId,
+			actorEmail: inv.email,
+			action: 'invitation.accepted',
+			target: inv.email,
+			detail: { role: inv.role },
+			ip
+		});
 		return { userId };
 	});
 }

@@ -45,7 +45,10 @@ export async function changeRole(
 	ip = ''
 ): Promise<MemberChangeResult> {
 	return knex.transaction(async (trx) => {
-		const owners = await trx('public.memberships').where({ shop_id: shop.id, role: 'owner' }).forUpdate().select('id');
+		const owners = await trx('public.memberships')
+			.where({ shop_id: shop.id, role: 'owner' })
+			.forUpdate()
+			.select('id');
 		const target = await trx('public.memberships as m')
 			.join('public.users as u', 'u.id', 'm.user_id')
 			.where({ 'm.id': membershipId, 'm.shop_id': shop.id })
@@ -56,7 +59,10 @@ export async function changeRole(
 			return { ok: false, message: 'Only an owner can give or take away the owner role.' };
 		}
 		if (target.role === 'owner' && owners.length <= 1) {
-			return { ok: false, message: `${target.email} is the last owner. Make someone else an owner first.` };
+			return {
+				ok: false,
+				message: `${target.email} is the last owner. Make someone else an owner first.`
+			};
 		}
 		await trx('public.memberships').where({ id: membershipId }).update({ role: newRole });
 		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
@@ -81,7 +87,10 @@ export async function removeMember(
 	ip = ''
 ): Promise<MemberChangeResult> {
 	return knex.transaction(async (trx) => {
-		const owners = await trx('public.memberships').where({ shop_id: shop.id, role: 'owner' }).forUpdate().select('id');
+		const owners = await trx('public.memberships')
+			.where({ shop_id: shop.id, role: 'owner' })
+			.forUpdate()
+			.select('id');
 		const target = await trx('public.memberships as m')
 			.join('public.users as u', 'u.id', 'm.user_id')
 			.where({ 'm.id': membershipId, 'm.shop_id': shop.id })
@@ -95,14 +104,25 @@ export async function removeMember(
 		}
 		await trx('public.memberships').where({ id: membershipId }).del();
 		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
-		await audit(trx, { actorUserId: by.id, actorEmail: by.email, action: 'member.removed', target: target.email, detail: { role: target.role }, ip });
+		await audit(trx, {
+			actorUserId: by.id,
+			actorEmail: by.email,
+			action: 'member.removed',
+			target: target.email,
+			detail: { role: target.role },
+			ip
+		});
 		return { ok: true };
 	});
 }
 
 export async function readAuditLog(shop: ShopRef, limit = 200) {
 	return withShop(shop, async (trx) => {
-		const rows = await trx('audit_log').orderBy('at', 'desc').orderBy('id', 'desc').limit(limit).select('*');
+		const rows = await trx('audit_log')
+			.orderBy('at', 'desc')
+			.orderBy('id', 'desc')
+			.limit(limit)
+			.select('*');
 		return rows.map((r) => ({
 			id: Number(r.id),
 			at: new Date(r.at).toISOString(),

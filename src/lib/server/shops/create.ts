@@ -27,7 +27,11 @@ export async function createShopWithOwner(
 		let userId = owner.userId;
 		if (!userId) {
 			const [u] = await trx('public.users')
-				.insert({ email: owner.email.trim(), name: owner.name ?? owner.email, password_hash: passwordHash })
+				.insert({
+					email: owner.email.trim(),
+					name: owner.name ?? owner.email,
+					password_hash: passwordHash
+				})
 				.returning('id');
 			userId = Number(u.id);
 		}

@@ -13,12 +13,28 @@ export interface MembershipView {
 	role: Role;
 }
 
-function toShop(r: { id: string | number; slug: string; name: string; schema_name: string; time_zone: string }): ShopRow {
-	return { id: Number(r.id), slug: r.slug, name: r.name, schemaName: r.schema_name, timeZone: r.time_zone };
+function toShop(r: {
+	id: string | number;
+	slug: string;
+	name: string;
+	schema_name: string;
+	time_zone: string;
+}): ShopRow {
+	return {
+		id: Number(r.id),
+		slug: r.slug,
+		name: r.name,
+		schemaName: r.schema_name,
+		timeZone: r.time_zone
+	};
 }
 
 /** The user's membership in the shop with this slug, or undefined (not a member, or no such shop). */
-export async function findMembership(knex: Knex, userId: number, slug: string): Promise<MembershipView | undefined> {
+export async function findMembership(
+	knex: Knex,
+	userId: number,
+	slug: string
+): Promise<MembershipView | undefined> {
 	const row = await knex('public.memberships as m')
 		.join('public.shops as s', 's.id', 'm.shop_id')
 		.where({ 'm.user_id': userId, 's.slug': slug })

@@ -9,16 +9,22 @@ import { db } from '$lib/server/db';
 import { redis } from '$lib/server/redis';
 import type { Actions, PageServerLoad } from './$types';
 
-export const load: PageServerLoad = async () => ({ form: await superValidate(zod4(resetRequestSchema)) });
+export const load: PageServerLoad = async () => ({
+	form: await superValidate(zod4(resetRequestSchema))
+});
 
-const SAME_ANSWER = 'If that e-mail has an account, a reset link is on its way. It expires in 60 minutes.';
+const SAME_ANSWER =
+	'If that e-mail has an account, a reset link is on its way. It expires in 60 minutes.';
 
 export const actions: Actions = {
 	default: async (event) => {
 		const form = await superValidate(await event.request.formData(), zod4(resetRequestSchema));
 		if (!form.valid) return fail(400, { form });
 		// Bounded per address so the form cannot be used to flood someone's inbox.
-		const limit = await hit(redis(), `dk:reset:addr:${clientAddress(event)}`, { max: 10, windowSeconds: 3600 });
+		const limit = await hit(redis(), `dk:reset:addr:${clientAddress(event)}`, {
+			max: 10,
+			windowSeconds: 3600
+		});
 		if (limit.allowed) await requestPasswordReset(db(), form.data.email);
 		return message(form, SAME_ANSWER);
 	}

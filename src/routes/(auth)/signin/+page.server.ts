@@ -7,9 +7,13 @@ import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ locals, url }) => {
 	if (locals.user) redirect(303, safeNext(url.searchParams.get('next')));
-	const form = await superValidate({ next: url.searchParams.get('next') ?? '' }, zod4(signInSchema), {
-		errors: false
-	});
+	const form = await superValidate(
+		{ next: url.searchParams.get('next') ?? '' },
+		zod4(signInSchema),
+		{
+			errors: false
+		}
+	);
 	return { form, reset: url.searchParams.has('reset') };
 };
 
@@ -20,9 +24,13 @@ export const actions: Actions = {
 		const outcome = await checkCredentials(event, form.data.email, form.data.password);
 		if (!outcome.ok && outcome.reason === 'rate-limited') {
 			const minutes = Math.ceil(outcome.retryAfterSeconds / 60);
-			return message(form, `Too many sign-in attempts. Try again in ${minutes} minute${minutes === 1 ? '' : 's'}.`, {
-				status: 429
-			});
+			return message(
+				form,
+				`Too many sign-in attempts. Try again in ${minutes} minute${minutes === 1 ? '' : 's'}.`,
+				{
+					status: 429
+				}
+			);
 		}
 		if (!outcome.ok) {
 			form.data.password = '';

@@ -20,11 +20,17 @@ export const load: PageServerLoad = async ({ fetch, url }) => {
 	if (!endpoint) error(404, 'Not found');
 	const to = url.searchParams.get('to') ?? '';
 	try {
-		const res = await fetch(`${endpoint}/_fake/messages${to ? `?to=${encodeURIComponent(to)}` : ''}`);
+		const res = await fetch(
+			`${endpoint}/_fake/messages${to ? `?to=${encodeURIComponent(to)}` : ''}`
+		);
 		const body = await res.json();
 		const messages: FakeMessage[] = Array.isArray(body) ? body : (body.messages ?? []);
 		return { messages, to, problem: null };
 	} catch {
-		return { messages: [] as FakeMessage[], to, problem: `The fake SES at ${endpoint} is not answering. Is npm start running?` };
+		return {
+			messages: [] as FakeMessage[],
+			to,
+			problem: `The fake SES at ${endpoint} is not answering. Is npm start running?`
+		};
 	}
 };

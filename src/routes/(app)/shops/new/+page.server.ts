@@ -24,11 +24,18 @@ export const actions: Actions = {
 		if (!/^[a-z0-9]([a-z0-9-]{0,46}[a-z0-9])$/.test(slug)) {
 			return setError(form, 'shopSlug', `Choose a shop address: ${SLUG_RULE}.`);
 		}
-		if (await slugTaken(db(), slug)) return setError(form, 'shopSlug', `The address "${slug}" is taken; choose another.`);
+		if (await slugTaken(db(), slug))
+			return setError(form, 'shopSlug', `The address "${slug}" is taken; choose another.`);
 		try {
-			await createShopWithOwner(db(), { name: form.data.shopName, slug }, { userId: user.id, email: user.email }, clientAddress(event));
+			await createShopWithOwner(
+				db(),
+				{ name: form.data.shopName, slug },
+				{ userId: user.id, email: user.email },
+				clientAddress(event)
+			);
 		} catch (e) {
-			if ((e as { code?: string }).code === '23505') return setError(form, 'shopSlug', `The address "${slug}" was just taken; choose another.`);
+			if ((e as { code?: string }).code === '23505')
+				return setError(form, 'shopSlug', `The address "${slug}" was just taken; choose another.`);
 			throw e;
 		}
 		redirect(303, `/shops/${slug}`);

@@ -11,7 +11,8 @@ import { acceptInvitation, lookupInvitation } from '$lib/server/members/invitati
 import type { Actions, PageServerLoad } from './$types';
 
 const PROBLEM = {
-	unknown: 'This invitation link is not valid (it may have been revoked or replaced by a newer one). Ask the person who invited you to send it again.',
+	unknown:
+		'This invitation link is not valid (it may have been revoked or replaced by a newer one). Ask the person who invited you to send it again.',
 	expired: 'This invitation has expired. Ask the person who invited you to send it again.',
 	used: 'This invitation has already been accepted. Sign in to reach the shop.'
 } as const;
@@ -19,11 +20,22 @@ const PROBLEM = {
 export const load: PageServerLoad = async ({ params, locals }) => {
 	const found = await lookupInvitation(db(), params.token);
 	const form = await superValidate(zod4(acceptInvitationSchema));
-	if (!found.ok) return { problem: PROBLEM[found.reason], invitation: null, form, signedInAs: locals.user?.email ?? null };
+	if (!found.ok)
+		return {
+			problem: PROBLEM[found.reason],
+			invitation: null,
+			form,
+			signedInAs: locals.user?.email ?? null
+		};
 	const inv = found.invitation;
 	return {
 		problem: null,
-		invitation: { shopName: inv.shopName, email: inv.email, role: inv.role, hasAccount: inv.hasAccount },
+		invitation: {
+			shopName: inv.shopName,
+			email: inv.email,
+			role: inv.role,
+			hasAccount: inv.hasAccount
+		},
 		signedInAs: locals.user?.email ?? null,
 		form
 	};
@@ -50,8 +62,14 @@ export const actions: Actions = {
 		}
 
 		if (!form.data.name) return setError(form, 'name', 'Enter your name.');
-		if (!form.data.password) return setError(form, 'password', `Choose a password: ${PASSWORD_RULE}.`);
-		const r = await acceptInvitation(db(), inv, { name: form.data.name, passwordHash: await hashPassword(form.data.password) }, ip);
+		if (!form.data.password)
+			return setError(form, 'password', `Choose a password: ${PASSWORD_RULE}.`);
+		const r = await acceptInvitation(
+			db(),
+			inv,
+			{ name: form.data.name, passwordHash: await hashPassword(form.data.password) },
+			ip
+		);
 		if ('error' in r) return message(form, PROBLEM.used, { status: 400 });
 		return startSession(event, inv.email, form.data.password, `/shops/${inv.shopSlug}`);
 	}

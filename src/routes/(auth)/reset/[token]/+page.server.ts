@@ -2,13 +2,20 @@ import { fail, redirect } from '@sveltejs/kit';
 import { message, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { resetPasswordSchema } from '$lib/schemas/auth';
-import { checkResetToken, completePasswordReset, TOKEN_PROBLEM } from '$lib/server/auth/password-reset';
+import {
+	checkResetToken,
+	completePasswordReset,
+	TOKEN_PROBLEM
+} from '$lib/server/auth/password-reset';
 import { db } from '$lib/server/db';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ params }) => {
 	const check = await checkResetToken(db(), params.token);
-	return { problem: check.ok ? null : TOKEN_PROBLEM[check.reason], form: await superValidate(zod4(resetPasswordSchema)) };
+	return {
+		problem: check.ok ? null : TOKEN_PROBLEM[check.reason],
+		form: await superValidate(zod4(resetPasswordSchema))
+	};
 };
 
 export const actions: Actions = {

@@ -1,11 +1,21 @@
 import { fail } from '@sveltejs/kit';
 import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
-import { changeRoleSchema, invitationIdSchema, inviteSchema, removeMemberSchema } from '$lib/schemas/members';
+import {
+	changeRoleSchema,
+	invitationIdSchema,
+	inviteSchema,
+	removeMemberSchema
+} from '$lib/schemas/members';
 import { clientAddress } from '$lib/server/auth/client-address';
 import { db } from '$lib/server/db';
 import { requireMember } from '$lib/server/guard';
-import { invite, listPendingInvitations, resendInvitation, revokeInvitation } from '$lib/server/members/invitations';
+import {
+	invite,
+	listPendingInvitations,
+	resendInvitation,
+	revokeInvitation
+} from '$lib/server/members/invitations';
 import { changeRole, listMembers, removeMember } from '$lib/server/members/members';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -27,41 +37,80 @@ function rowResult(ok: boolean, text: string, status = 400) {
 export const actions: Actions = {
 	invite: async (event) => {
 		const { shop, user, role } = await requireMember(event, 'members.manage');
-		const form = await superValidate(await event.request.formData(), zod4(inviteSchema), { id: 'invite' });
+		const form = await superValidate(await event.request.formData(), zod4(inviteSchema), {
+			id: 'invite'
+		});
 		if (!form.valid) return fail(400, { form });
 		if (form.data.role === 'owner' && role !== 'owner') {
 			return setError(form, 'role', 'Only an owner can invite another owner.');
 		}
-		const result = await invite(db(), shop, form.data.email, form.data.role, user, clientAddress(event));
-		if (result.alreadyMember) return setError(form, 'email', `${form.data.email} is already a member of this shop.`);
+		const result = await invite(
+			db(),
+			shop,
+			form.data.email,
+			form.data.role,
+			user,
+			clientAddress(event)
+		);
+		if (result.alreadyMember)
+			return setError(form, 'email', `${form.data.email} is already a member of this shop.`);
 		return message(form, `Invitation sent to ${form.data.email} as ${form.data.role}.`);
 	},
 	changeRole: async (event) => {
 		const me = await requireMember(event, 'members.manage');
 		const form = await superValidate(await event.request.formData(), zod4(changeRoleSchema));
 		if (!form.valid) return rowResult(false, Object.values(form.errors).flat().join(' '));
-		const r = await changeRole(db(), me.shop, form.data.membershipId, form.data.role, { ...me.user, role: me.role }, clientAddress(event));
+		const r = await changeRole(
+			db(),
+			me.shop,
+			form.data.membershipId,
+			form.data.role,
+			{ ...me.user, role: me.role },
+			clientAddress(event)
+		);
 		return r.ok ? rowResult(true, 'Role changed.') : rowResult(false, r.message, 409);
 	},
 	remove: async (event) => {
 		const me = await requireMember(event, 'members.manage');
 		const form = await superValidate(await event.request.formData(), zod4(removeMemberSchema));
 		if (!form.valid) return rowResult(false, Object.values(form.errors).flat().join(' '));
-		const r = await removeMember(db(), me.shop, form.data.membershipId, { ...me.user, role: me.role }, clientAddress(event));
+		const r = await removeMember(
+			db(),
+			me.shop,
+			form.data.membershipId,
+			{ ...me.user, role: me.role },
+			clientAddress(event)
+		);
 		return r.ok ? rowResult(true, 'Member removed.') : rowResult(false, r.message, 409);
 	},
 	resend: async (event) => {
 		const { shop, user } = await requireMember(event, 'members.manage');
 		const form = await superValidate(await event.request.formData(), zod4(invitationIdSchema));
 		if (!form.valid) return rowResult(false, 'Unknown invitation.');
-		const ok = await resendInvitation(db(), shop, form.data.invitationId, user, clientAddress(event));
-		return ok ? rowResult(true, 'Invitation sent again with a new link.') : rowResult(false, 'That invitation is no longer pending.', 404);
+		const ok = await resendInvitation(
+			db(),
+			shop,
+			form.data.invitationId,
+			user,
+			clientAddress(event)
+		);
+		return ok
+			? rowResult(true, 'Invitation sent again with a new link.')
+			: rowResult(false, 'That invitation is no longer pending.', 404);
 	},
 	revoke: async (event) => {
 		const { shop, user } = await requireMember(event, 'members.manage');
 		const form = await superValidate(await event.request.formData(), zod4(invitationIdSchema));
 		if (!form.valid) return rowResult(false, 'Unknown invitation.');
-		const ok = await revokeInvitation(db(), shop, form.data.invitationId, user, clientAddress(event));
-		return ok ? rowResult(true, 'Invitation revoked.') : rowResult(false, 'That invitation is no longer pending.', 404);
+		const ok = await revokeInvitation(
+			db(),
+			shop,
+			form.data.invitationId,
+			user,
+			clientAddress(event)
+		);
+		return ok
+			? rowResult(true, 'Invitation revoked.')
+			: rowResult(false, 'That invitation is no longer pending.', 404);
 	}
 };

@@ -1,0 +1,125 @@
+import { expect, test } from '@playwright/test';
+import { DEMO_PASSWORD, FERNHILL, mailsTo } from './helpers';
+
+async function signIn(
+	page: import('@playwright/test').Page,
+	email: string,
+	password = DEMO_PASSWORD
+) {
+	await page.goto('/signin');
+	await page.getByLabel('E-mail').fill(email);
+	await page.getByLabel('Password').fill(password);
+	await page.getByRole('button', { name: 'Sign in' }).click();
+}
+
+test('the owner invites an operator, who accepts from the e-mail and sees only what an operator may', async ({
+	page,
+	browser
+}) => {
+	const invitee = `e2e-op-${Date.now()}@example.test`;
+	await signIn(page, FERNHILL.owner);
+	await expect(page).toHaveURL(/\/shops\/fernhill-precision$/);
+	await page.getByRole('link', { name: 'Members' }).click();
+	await page.getByLabel('E-mail').fill(invitee);
+	await page.getByLabel('Role', { exact: true }).selectOption('operator');
+	await page.getByRole('button', { name: 'Send invitation' }).click();
+	await expect(page.getByRole('status')).toContainText(`Invitation sent to ${invitee}`);
+	await expect(page.getByTestId('invitations-table')).toContainText(invitee);
+
+	// The message arrived in the fake SES store, with a link.
+	await expect.poll(async () => (await mailsTo(invitee)).length).toBe(1);
+	const [mail] = await mailsTo(invitee);
+	expect(mail.subject).toContain('Fernhill Precision');
+	const link = mail.text!.match(/https?:\/\/\S+\/invitations\/\S+/)![0];
+
+	const ctx = await browser.newContext();
+	const p2 = await ctx.newPage();
+	await p2.goto(new URL(link).pathname);
+	await expect(p2.getByRole('heading', { name: 'Join Fernhill Precision' })).toBeVisible();
+	// Bad input first: a weak password is refused with the rule, nothing is created.
+	await p2.getByLabel('Your name').fill('Erin Example');
+	await p2.getByLabel('Choose a password').fill('short');
+	await p2.getByRole('button', { name: 'Create my account and join' }).click();
+	await expect(p2.getByText(/Password too short/)).toBeVisible();
+	await p2.getByLabel('Choose a password').fill('spindle-safe-42');
+	await p2.getByRole('button', { name: 'Create my account and join' }).click();
+	await expect(p2).toHaveURL(/\/shops\/fernhill-precision$/);
+	await expect(p2.getByRole('heading', { name: 'Machines' })).toBeVisible();
+	// Operator: no Members or Audit log in the navigation, and the server refuses them too.
+	const nav = p2.getByRole('navigation', { name: 'Shop' });
+	await expect(nav.getByRole('link', { name: 'Members' })).toHaveCount(0);
+	await expect(nav.getByRole('link', { name: 'Audit log' })).toHaveCount(0);
+	const res = await p2.goto('/shops/fernhill-precision/members');
+	expect(res?.status()).toBe(403);
+
+	// The link is single-use.
+	await p2.goto(new URL(link).pathname);
+	await expect(p2.getByRole('alert')).toContainText('already been accepted');
+	await ctx.close();
+});
+
+test('wrong password gets one generic message; repeated failures are rate-limited', async ({
+	page
+}) => {
+	const email = 'bea@fernhill.example';
+	await signIn(page, email, 'not-her-password-1');
+	await expect(page.getByText('E-mail or password is not right.')).toBeVisible();
+	await signIn(page, 'nobody-here@fernhill.example', 'not-a-password-1');
+	await expect(page.getByText('E-mail or password is not right.')).toBeVisible();
+	for (let i = 0; i < 5; i++) await signIn(page, email, `wrong-${i}-password`);
+	await expect(page.getByRole('alert')).toContainText('Too many sign-in attempts');
+	// Even the right password is refused while blocked.
+	await signIn(page, email, DEMO_PASSWORD);
+	await expect(page.getByRole('alert')).toContainText('Too many sign-in attempts');
+});
+
+test('sign-up creates a shop with its owner; bad input names the field and changes nothing', async ({
+	page
+}) => {
+	const email = `founder-${Date.now()}@example.test`;
+	await page.goto('/signup');
+	await page.getByLabel('Your name').fill('Fay Founder');
+	await page.getByLabel('E-mail').fill('not-an-email');
+	await page.getByLabel('Password').fill('abc');
+	await page.getByLabel('Shop name').fill('Founders Mill Works');
+	await page.getByLabel('Shop address (optional)').fill('fernhill-precision');
+	await page.getByRole('button', { name: 'Create the shop' }).click();
+	await expect(page.getByText(/not an e-mail address/)).toBeVisible();
+	await expect(page.getByText(/Password too short/)).toBeVisible();
+
+	await page.getByLabel('E-mail').fill(email);
+	await page.getByLabel('Password').fill('founders-pass-7');
+	await page.getByRole('button', { name: 'Create the shop' }).click();
+	await expect(page.getByText('The address "fernhill-precision" is taken')).toBeVisible();
+
+	await page.getByLabel('Shop address (optional)').fill('');
+	await page.getByRole('button', { name: 'Create the shop' }).click();
+	await expect(page).toHaveURL(/\/shops\/founders-mill-works$/);
+	await expect(page.getByTestId('shop-switcher')).toContainText('Founders Mill Works');
+	await page.getByRole('link', { name: 'Audit log' }).click();
+	await expect(page.getByTestId('audit-table')).toContainText('shop.created');
+});
+
+test('password reset from the e-mailed link; the same answer for an unknown e-mail', async ({
+	page
+}) => {
+	await page.goto('/reset');
+	await page.getByLabel('E-mail').fill('no-such-person@example.test');
+	await page.getByRole('button', { name: 'Send a reset link' }).click();
+	const same = 'If that e-mail has an account, a reset link is on its way.';
+	await expect(page.getByRole('status')).toContainText(same);
+
+	await page.goto('/reset');
+	await page.getByLabel('E-mail').fill('bea@fernhill.example');
+	await page.getByRole('button', { name: 'Send a reset link' }).click();
+	await expect(page.getByRole('status')).toContainText(same);
+	await expect.poll(async () => (await mailsTo('bea@fernhill.example')).length).toBeGreaterThan(0);
+	const [mail] = await mailsTo('bea@fernhill.example');
+	const path = new URL(mail.text!.match(/https?:\/\/\S+\/reset\/\S+/)![0]).pathname;
+	await page.goto(path);
+	await page.getByLabel('New password').fill('bea-new-pass-9');
+	await page.getByRole('button', { name: 'Set the password' }).click();
+	await expect(page).toHaveURL(/\/signin\?reset=1/);
+	await page.goto(path);
+	await expect(page.getByRole('alert')).toContainText('already been used');
+});

@@ -1,0 +1,40 @@
+import { request, type APIRequestContext } from '@playwright/test';
+
+export const DEMO_PASSWORD = 'datumkeep-demo';
+export const baseURL = `http://127.0.0.1:${process.env.PORT ?? 4173}`;
+
+export const FERNHILL = {
+	slug: 'fernhill-precision',
+	owner: 'ada@fernhill.example',
+	admin: 'tomas@fernhill.example',
+	lead: 'keiko@fernhill.example',
+	operator: 'omar@fernhill.example'
+} as const;
+export const QUARRY = { slug: 'quarry-road-tool', owner: 'nils@quarryroad.example' } as const;
+
+/** An HTTP client signed in as `email` through the real sign-in form action. */
+export async function signedInClient(
+	email: string,
+	password = DEMO_PASSWORD
+): Promise<APIRequestContext> {
+	const ctx = await request.newContext({ baseURL, extraHTTPHeaders: { Origin: baseURL } });
+	const res = await ctx.post('/signin', {
+		form: { email, password, next: '/shops' },
+		headers: { accept: 'text/html' },
+		maxRedirects: 0
+	});
+	if (![302, 303].includes(res.status())) {
+		throw new Error(`sign-in as ${email} answered ${res.status()}`);
+	}
+	return ctx;
+}
+
+/** Messages the fake SES caught for an address, newest first. */
+export async function mailsTo(
+	address: string
+): Promise<{ subject: string; text: string | null; html: string | null }[]> {
+	const res = await fetch(
+		`http://127.0.0.1:${process.env.FAKE_SES_PORT ?? 4589}/_fake/messages?to=${encodeURIComponent(address)}`
+	);
+	return res.json();
+}
