@@ -7,12 +7,12 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 
 # Test settings win over .env: own database, own ports, own Redis database.
-export PORT=4173
+export PORT="${TEST_PORT:-4173}"
 export ORIGIN="http://127.0.0.1:$PORT"
 export DATABASE_URL="${TEST_DATABASE_URL:-postgres://postgres@127.0.0.1:54329/datumkeep_test}"
 export REDIS_URL="${TEST_REDIS_URL:-redis://127.0.0.1:63799/1}"
-export FAKE_SES_PORT=4589
-export FAKE_STRIPE_PORT=12121
+export FAKE_SES_PORT="${TEST_FAKE_SES_PORT:-4589}"
+export FAKE_STRIPE_PORT="${TEST_FAKE_STRIPE_PORT:-12121}"
 export AUTH_SECRET="test-secret-not-for-production-0123456789"
 export STRIPE_SECRET_KEY=sk_test_local_fake
 export STRIPE_WEBHOOK_SECRET=whsec_test_local_fake
