@@ -1,4 +1,7 @@
-/** Display helpers shared by pages (no server imports). */
+/** Display helpers shared by pages (no server imports). Offsets are formatted by the engine. */
+import { CONVENTION_LABEL, formatLength, formatWithUnits, UNIT_LABEL } from '$lib/offsets';
+
+export { CONVENTION_LABEL, formatLength, formatWithUnits, UNIT_LABEL };
 
 /** "3 days ago", "5 hours ago", "just now" — ages of readings and references. */
 export function ageFrom(iso: string | null, now = Date.now()): string {
@@ -12,19 +15,13 @@ export function ageFrom(iso: string | null, now = Date.now()): string {
 	return `${Math.round(hours / 24)} days ago`;
 }
 
-export const UNIT_LABEL = { inch: 'in', mm: 'mm' } as const;
-
-/** Fixed decimals for a machine's least increment: 0.0001 → 4, 0.001 → 3. */
-export function decimalsFor(resolution: number): number {
-	return Math.max(0, Math.min(6, Math.round(-Math.log10(resolution))));
+/** Date and time as the shop floor reads it, e.g. "2 Dec 2026, 14:05". */
+export function when(iso: string): string {
+	return new Date(iso).toLocaleString('en-GB', {
+		day: 'numeric',
+		month: 'short',
+		year: 'numeric',
+		hour: '2-digit',
+		minute: '2-digit'
+	});
 }
-
-export function fixed(value: number, resolution: number): string {
-	return value.toFixed(decimalsFor(resolution));
-}
-
-export const CONVENTION_LABEL: Record<string, string> = {
-	'reference-touch': 'Tip touched on the reference',
-	'gauge-length': 'Tool length from the gauge line',
-	'master-tool': 'Master tool (H = 0)'
-};

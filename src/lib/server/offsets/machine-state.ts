@@ -1,0 +1,306 @@
+import type { Knex } from 'knex';
+import {
+	checkOffsets,
+	type CheckInput,
+	type Convention,
+	type ControlStyle,
+	type Finding,
+	type HistoryEntry,
+	type Machine,
+	type OffsetTable,
+	type Setup
+} from '$lib/offsets';
+
+/** A machine row as the pages and the engine need it. `trx` below is always a shop transaction (withShop). */
+export interface MachineRecord {
+	id: number;
+	name: string;
+	units: 'inch' | 'mm';
+	zTravel: number;
+	resolution: number;
+	controlStyle: ControlStyle;
+	convention: Convention;
+	masterToolH: number | null;
+	notes: string;
+	createdAt: string;
+}
+
+export interface ReferenceRecord {
+	id: number;
+	version: number;
+	instrument: string;
+	height: number;
+	location: string;
+	gaugeLineZ: number | null;
+	establishedBy: number | null;
+	establishedByName: string | null;
+	establishedAt: string;
+	note: string;
+}
+
+/** One register's current value with where it came from. */
+export interface CurrentOffset {
+	kind: 'work' | 'tool';
+	register: string;
+	value: number;
+	measuredAt: string;
+	referenceVersion: number;
+	readingId: number | null;
+	offsetVersionId: number;
+}
+
+const num = (v: unknown) => (v === null || v === undefined ? null : Number(v));
+const iso = (v: unknown) => new Date(v as string).toISOString();
+
+export function toMachineRecord(r: Record<string, unknown>): MachineRecord {
+	return {
+		id: Number(r.id),
+		name: String(r.name),
+		units: r.units as 'inch' | 'mm',
+		zTravel: Number(r.z_travel),
+		resolution: Number(r.resolution),
+		controlStyle: r.control_style as ControlStyle,
+		convention: r.convention as Convention,
+		masterToolH: num(r.master_tool_h),
+		notes: String(r.notes ?? ''),
+		createdAt: iso(r.created_at)
+	};
+}
+
+export async function getMachine(
+	trx: Knex.Transaction,
+	machineId: number
+): Promise<MachineRecord | undefined> {
+	if (!Number.isSafeInteger(machineId) || machineId <= 0) return undefined;
+	const r = await trx('machines').where({ id: machineId }).whereNull('archived_at').first();
+	return r ? toMachineRecord(r) : undefined;
+}
+
+/** The machine as the engine wants it (DESIGN.md §4 Machine). */
+export function engineMachine(m: MachineRecord): Machine {
+	return {
+		id: String(m.id),
+		name: m.name,
+		units: m.units,
+		zTravel: m.zTravel,
+		resolution: m.resolution,
+		convention: m.convention,
+		controlStyle: m.controlStyle,
+		...(m.masterToolH ? { masterTool: String(m.masterToolH) } : {})
+	};
+}
+
+/** Every version of the machine's reference, newest first. */
+export async function listReferences(
+	trx: Knex.Transaction,
+	machineId: number
+): Promise<ReferenceRecord[]> {
+	const rows = await trx('reference_surfaces as r')
+		.leftJoin('public.users as u', 'u.id', 'r.established_by')
+		.where('r.machine_id', machineId)
+		.orderBy('r.version', 'desc')
+		.select('r.*', 'u.name as established_by_name');
+	return rows.map((r) => ({
+		id: Number(r.id),
+		version: r.version,
+		instrument: r.instrument,
+		height: Number(r.height),
+		location: r.location,
+		gaugeLineZ: num(r.gauge_line_z),
+		establishedBy: num(r.established_by),
+		establishedByName: r.established_by_name ?? null,
+		establishedAt: iso(r.established_at),
+		note: r.note
+	}));
+}
+
+/** The newest offset version of every register of the machine (one query, DISTINCT ON). */
+export async function currentOffsets(
+	trx: Knex.Transaction,
+	machineId: number
+): Promise<CurrentOffset[]> {
+	const rows = await trx.select('*').from(
+		trx('offset_versions')
+			.where({ machine_id: machineId })
+			.distinctOn('register_kind', 'register')
+			.orderBy([
+				{ column: 'register_kind' },
+				{ column: 'register' },
+				{ column: 'created_at', order: 'desc' },
+				{ column: 'id', order: 'desc' }
+			])
+			.as('latest')
+	);
+	return rows.map((r) => ({
+		kind: r.register_kind,
+		register: r.register,
+		value: Number(r.value),
+		measuredAt: iso(r.created_at),
+		referenceVersion: r.reference_version,
+		readingId: num(r.reading_id),
+		offsetVersionId: Number(r.id)
+	}));
+}
+
+/** The machine's current table in the engine's shape (its own convention and units). */
+export function tableFrom(machine: MachineRecord, offsets: CurrentOffset[]): OffsetTable {
+	const table: OffsetTable = {
+		convention: machine.convention,
+		units: machine.units,
+		work: {},
+		tools: {}
+	};
+	for (const o of offsets) (o.kind === 'work' ? table.work : table.tools)[o.register] = o.value;
+	if (machine.convention === 'master-tool' && machine.masterToolH)
+		table.masterTool = String(machine.masterToolH);
+	return table;
+}
+
+/** Recorded values per register, oldest first, with tool changes, for the engine's history checks. */
+export async function offsetHistory(
+	trx: Knex.Transaction,
+	machineId: number,
+	convention: Convention
+): Promise<NonNullable<CheckInput['history']>> {
+	const rows = await trx('offset_versions as o')
+		.leftJoin('readings as r', 'r.id', 'o.reading_id')
+		.where('o.machine_id', machineId)
+		.andWhere('o.convention', convention)
+		.orderBy([{ column: 'o.created_at' }, { column: 'o.id' }])
+		.select(
+			'o.register_kind',
+			'o.register',
+			'o.value',
+			'o.created_at',
+			'r.tool_changed',
+			'r.kind as reading_kind'
+		);
+	const history: { work: Record<string, HistoryEntry[]>; tools: Record<string, HistoryEntry[]> } = {
+		work: {},
+		tools: {}
+	};
+	for (const r of rows) {
+		const bucket = r.register_kind === 'work' ? history.work : history.tools;
+		(bucket[r.register] ??= []).push({
+			value: Number(r.value),
+			at: iso(r.created_at),
+			...(r.tool_changed ? { toolChange: true } : {})
+		});
+	}
+	return history;
+}
+
+/** The machine's setups that are on the table or planned, in the engine's shape (for out-of-travel and clearance). */
+export async function engineSetups(
+	trx: Knex.Transaction,
+	machine: MachineRecord,
+	table: OffsetTable,
+	geometry: { referenceGaugeLineZ?: number | null }
+): Promise<Setup[]> {
+	const setups = await trx('setups')
+		.where({ machine_id: machine.id })
+		.whereIn('status', ['planned', 'running'])
+		.select('id', 'name', 'clearance_margin');
+	if (setups.length === 0) return [];
+	const ids = setups.map((s) => s.id);
+	// One connection per transaction: queries run one after another, never with Promise.all.
+	const fixtures = await trx('setup_fixtures as sf')
+		.join('fixtures as f', 'f.id', 'sf.fixture_id')
+		.whereIn('sf.setup_id', ids)
+		.select('sf.setup_id', 'f.register', 'sf.obstacle_height');
+	const tools = await trx('setup_tools as st')
+		.join('tools as t', 't.id', 'st.tool_id')
+		.whereIn('st.setup_id', ids)
+		.select('st.setup_id', 't.h_number');
+	const out: Setup[] = [];
+	for (const s of setups) {
+		const fx = fixtures.filter((f) => f.setup_id === s.id && table.work[f.register] !== undefined);
+		if (fx.length === 0) continue;
+		const zeroHeight = (w: number) =>
+			zeroHeightOf(machine, w, geometry.referenceGaugeLineZ ?? null);
+		const usable = fx.filter((f) => zeroHeight(table.work[f.register]) !== null);
+		if (usable.length === 0) continue;
+		out.push({
+			id: String(s.id),
+			name: s.name,
+			units: machine.units,
+			resolution: machine.resolution,
+			margin: Number(s.clearance_margin),
+			fixtures: usable.map((f) => ({
+				register: f.register,
+				zeroHeight: zeroHeight(table.work[f.register])!
+			})),
+			obstacles: usable.map((f) => ({ label: f.register, height: Number(f.obstacle_height) })),
+			tools: tools.filter((t) => t.setup_id === s.id).map((t) => ({ h: String(t.h_number) }))
+		});
+	}
+	return out;
+}
+
+/**
+ * h_k (program zero above the reference) from a work offset: W itself when tips are touched on
+ * the reference; W − R from the gauge line (needs R); unknown for master-tool here.
+ */
+export function zeroHeightOf(
+	machine: MachineRecord,
+	workZ: number,
+	referenceGaugeLineZ: number | null
+): number | null {
+	if (machine.convention === 'reference-touch') return workZ;
+	if (machine.convention === 'gauge-length' && referenceGaugeLineZ !== null) {
+		return Math.round((workZ - referenceGaugeLineZ) * 1e6) / 1e6;
+	}
+	return null;
+}
+
+export interface MachineState {
+	machine: MachineRecord;
+	reference: ReferenceRecord | null;
+	offsets: CurrentOffset[];
+	table: OffsetTable;
+	checkInput: CheckInput;
+	findings: Finding[];
+}
+
+/**
+ * Everything the checks need about one machine, and the engine's findings for it as of `now`.
+ * `overrides` lets a preview ask "what if this value were saved?" without writing anything.
+ */
+export async function machineState(
+	trx: Knex.Transaction,
+	machine: MachineRecord,
+	now = new Date(),
+	overrides?: { kind: 'work' | 'tool'; register: string; value: number; toolChange?: boolean }
+): Promise<MachineState> {
+	const references = await listReferences(trx, machine.id);
+	const offsets = await currentOffsets(trx, machine.id);
+	const history = await offsetHistory(trx, machine.id, machine.convention);
+	const reference = references[0] ?? null;
+	const table = tableFrom(machine, offsets);
+	if (overrides) {
+		(overrides.kind === 'work' ? table.work : table.tools)[overrides.register] = overrides.value;
+		const bucket = overrides.kind === 'work' ? (history.work ??= {}) : (history.tools ??= {});
+		(bucket[overrides.register] ??= []).push({
+			value: overrides.value,
+			at: now.toISOString(),
+			...(overrides.toolChange ? { toolChange: true } : {})
+		});
+	}
+	const setups = await engineSetups(trx, machine, table, {
+		referenceGaugeLineZ: reference?.gaugeLineZ
+	});
+	const used = {
+		work: [...new Set(setups.flatMap((s) => s.fixtures.map((f) => f.register)))],
+		tools: [...new Set(setups.flatMap((s) => (s.tools ?? []).map((t) => t.h)))]
+	};
+	const checkInput: CheckInput = {
+		machine: engineMachine(machine),
+		table,
+		history,
+		now: now.toISOString(),
+		setups,
+		used,
+		...(reference ? { referenceEstablishedAt: reference.establishedAt } : {})
+	};
+	return { machine, reference, offsets, table, checkInput, findings: checkOffsets(checkInput) };
+}

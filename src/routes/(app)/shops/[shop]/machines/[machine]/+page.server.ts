@@ -1,0 +1,29 @@
+import { can } from '$lib/permissions';
+import { withShop } from '$lib/server/db/tenant';
+import { requireMember } from '$lib/server/guard';
+import { machineFromParam } from '$lib/server/machines/load';
+import { machineOverview } from '$lib/server/offsets/overview';
+import type { PageServerLoad } from './$types';
+
+export const load: PageServerLoad = async (event) => {
+	const { shop, role } = await requireMember(event, 'machines.read');
+	return withShop(shop, async (trx) => {
+		const machine = await machineFromParam(trx, event.params.machine);
+		const overview = await machineOverview(trx, machine);
+		const setups = await trx('setups')
+			.where({ machine_id: machine.id })
+			.orderBy('created_at', 'desc')
+			.limit(10)
+			.select('id', 'name', 'job', 'status');
+		return {
+			machine,
+			reference: overview.state.reference,
+			tools: overview.toolRows,
+			fixtures: overview.fixtureRows,
+			machineFindings: overview.machineFindings,
+			setups: setups.map((s) => ({ id: Number(s.id), name: s.name, job: s.job, status: s.status })),
+			canEdit: can(role, 'machines.write'),
+			canRecord: can(role, 'setups.write')
+		};
+	});
+};
