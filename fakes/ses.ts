@@ -7,8 +7,9 @@
  * `new SESClient({ region, endpoint: url, credentials: { accessKeyId: 'x', secretAccessKey: 'y' } })`.
  */
 import { randomUUID } from 'node:crypto';
-import { appendFileSync, existsSync, readFileSync, writeFileSync } from 'node:fs';
+import { appendFileSync, existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
+import { dirname } from 'node:path';
 import { closeServer, listen, readBody, sendJson } from './lib/http';
 import {
 	bareAddress,
@@ -81,6 +82,8 @@ class SesError extends Error {
 export async function startFakeSes(options: FakeSesOptions): Promise<FakeSes> {
 	const host = options.host ?? '127.0.0.1';
 	const storeFile = options.storeFile;
+	// A missing folder would otherwise fail only at the first e-mail, far from its cause.
+	if (storeFile) mkdirSync(dirname(storeFile), { recursive: true });
 	// Oldest first internally; every reader gets newest first.
 	const stored: FakeSesMessage[] = storeFile ? loadStore(storeFile) : [];
 
@@ -174,7 +177,8 @@ export async function startFakeSes(options: FakeSesOptions): Promise<FakeSes> {
 			res.writeHead(204).end();
 		} else {
 			sendJson(res, 405, {
-				error: 'use GET /_fake/messages[?to=address], GET /_fake/messages/:id or DELETE /_fake/messages'
+				error:
+					'use GET /_fake/messages[?to=address], GET /_fake/messages/:id or DELETE /_fake/messages'
 			});
 		}
 	}
@@ -246,7 +250,10 @@ function newMessage(action: FakeSesMessage['action'], from: string) {
 function required(params: URLSearchParams, name: string, what: string): string {
 	const value = params.get(name);
 	if (value === null || value === '') {
-		throw new SesError('ValidationError', `${name} is required (${what}) but was missing or empty.`);
+		throw new SesError(
+			'ValidationError',
+			`${name} is required (${what}) but was missing or empty.`
+		);
 	}
 	return value;
 }
@@ -269,7 +276,10 @@ function checkRecipients(all: string[]): void {
 function checkAddresses(addresses: string[]): void {
 	const bad = addresses.find((a) => !isValidAddress(a));
 	if (bad !== undefined) {
-		throw new SesError('InvalidParameterValue', `Not a valid e-mail address: ${JSON.stringify(bad)}.`);
+		throw new SesError(
+			'InvalidParameterValue',
+			`Not a valid e-mail address: ${JSON.stringify(bad)}.`
+		);
 	}
 }
 
@@ -283,7 +293,9 @@ function decodeEncodedWords(value: string): string {
 				: Buffer.from(
 						text
 							.replace(/_/g, ' ')
-							.replace(/=([0-9A-Fa-f]{2})/g, (_m, hex: string) => String.fromCharCode(parseInt(hex, 16))),
+							.replace(/=([0-9A-Fa-f]{2})/g, (_m, hex: string) =>
+								String.fromCharCode(parseInt(hex, 16))
+							),
 						'latin1'
 					).toString('utf8')
 	);

@@ -104,7 +104,9 @@ export function listen(
 					)
 				);
 			} else {
-				reject(new ListenError(`${label}: cannot listen on ${host}:${port}: ${err.message}`, err.code));
+				reject(
+					new ListenError(`${label}: cannot listen on ${host}:${port}: ${err.message}`, err.code)
+				);
 			}
 		};
 		const onListening = () => {

@@ -111,7 +111,9 @@ function decodeTransfer(body: string, encoding: string): string {
 			return Buffer.from(
 				body
 					.replace(/=\n/g, '')
-					.replace(/=([0-9A-Fa-f]{2})/g, (_, hex: string) => String.fromCharCode(parseInt(hex, 16))),
+					.replace(/=([0-9A-Fa-f]{2})/g, (_, hex: string) =>
+						String.fromCharCode(parseInt(hex, 16))
+					),
 				'latin1'
 			).toString('utf8');
 		default:

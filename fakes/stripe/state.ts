@@ -160,7 +160,11 @@ export class StripeState {
 				nickname: entry.productName,
 				lookup_key: entry.lookup_key ?? null,
 				product: productId,
-				recurring: { interval: entry.interval ?? 'month', interval_count: 1, usage_type: 'licensed' },
+				recurring: {
+					interval: entry.interval ?? 'month',
+					interval_count: 1,
+					usage_type: 'licensed'
+				},
 				type: 'recurring',
 				metadata: { ...entry.metadata },
 				livemode: false
