@@ -7,7 +7,12 @@ export default defineConfig({
 	server: { host: '127.0.0.1' },
 	test: {
 		// Unit tests beside the code, integration tests against the real PostgreSQL in tests/integration.
-		include: ['src/**/*.test.ts', 'tests/integration/**/*.test.ts', 'fakes/**/*.test.ts', 'workers/**/*.test.ts'],
+		include: [
+			'src/**/*.test.ts',
+			'tests/integration/**/*.test.ts',
+			'fakes/**/*.test.ts',
+			'workers/**/*.test.ts'
+		],
 		environment: 'node',
 		// Integration tests share one database: run files one after another.
 		fileParallelism: false,

@@ -16,7 +16,10 @@ function atResolution(value: number, resolution: number): number {
  * their schemas, machines, references, fixtures, tools, touch-off readings with the offsets
  * computed from them, and setups. Returns what it created, for the start-up banner.
  */
-export async function seedDemo(knex: Knex, now = new Date()): Promise<{ shops: string[]; people: string[] }> {
+export async function seedDemo(
+	knex: Knex,
+	now = new Date()
+): Promise<{ shops: string[]; people: string[] }> {
 	const hash = await bcrypt.hash(DEMO_PASSWORD, 10);
 	const ago = (days: number) => new Date(now.getTime() - days * DAY);
 	const people: string[] = [];
@@ -30,27 +33,37 @@ export async function seedDemo(knex: Knex, now = new Date()): Promise<{ shops: s
 			userIds.set(person.email, Number(u.id));
 			people.push(`${person.email} (${person.role}, ${shop.name})`);
 		}
-		const lead = userIds.get(shop.people.find((p) => p.role === 'lead' || p.role === 'owner')!.email)!;
+		const lead = userIds.get(
+			shop.people.find((p) => p.role === 'lead' || p.role === 'owner')!.email
+		)!;
 		const operator = userIds.get(
 			(shop.people.find((p) => p.role === 'operator') ?? shop.people[0]).email
 		)!;
 
-		await provisionShop(knex, { name: shop.name, slug: shop.slug, timeZone: shop.timeZone }, async (trx, created) => {
-			await trx('public.memberships').insert(
-				shop.people.map((p) => ({ user_id: userIds.get(p.email), shop_id: created.id, role: p.role }))
-			);
-			await trx.raw('set local search_path to ??, public', [created.schemaName]);
-			for (const machine of shop.machines) {
-				await seedMachine(trx, machine, { lead, operator, ago });
+		await provisionShop(
+			knex,
+			{ name: shop.name, slug: shop.slug, timeZone: shop.timeZone },
+			async (trx, created) => {
+				await trx('public.memberships').insert(
+					shop.people.map((p) => ({
+						user_id: userIds.get(p.email),
+						shop_id: created.id,
+						role: p.role
+					}))
+				);
+				await trx.raw('set local search_path to ??, public', [created.schemaName]);
+				for (const machine of shop.machines) {
+					await seedMachine(trx, machine, { lead, operator, ago });
+				}
+				await trx('audit_log').insert({
+					actor_user_id: userIds.get(shop.people[0].email),
+					actor_email: shop.people[0].email,
+					action: 'shop.created',
+					target: shop.slug,
+					detail: JSON.stringify({ source: 'demo seed' })
+				});
 			}
-			await trx('audit_log').insert({
-				actor_user_id: userIds.get(shop.people[0].email),
-				actor_email: shop.people[0].email,
-				action: 'shop.created',
-				target: shop.slug,
-				detail: JSON.stringify({ source: 'demo seed' })
-			});
-		});
+		);
 	}
 	return { shops: demoShops.map((s) => s.name), people };
 }
@@ -153,7 +166,12 @@ async function seedMachine(
 	const fixtureIds = new Map<string, number>();
 	for (const f of m.fixtures) {
 		const [row] = await trx('fixtures')
-			.insert({ machine_id: machineId, register: f.register, name: f.name, description: f.description })
+			.insert({
+				machine_id: machineId,
+				register: f.register,
+				name: f.name,
+				description: f.description
+			})
 			.returning('id');
 		fixtureIds.set(f.register, Number(row.id));
 		const h = toolOffsets.get(f.partTop.withTool)!;
@@ -198,11 +216,22 @@ async function seedMachine(
 			})
 			.returning('id');
 		await trx('setup_fixtures').insert(
-			s.fixtures.map((f) => ({ setup_id: setup.id, fixture_id: fixtureIds.get(f.register), obstacle_height: f.obstacle }))
+			s.fixtures.map((f) => ({
+				setup_id: setup.id,
+				fixture_id: fixtureIds.get(f.register),
+				obstacle_height: f.obstacle
+			}))
 		);
-		await trx('setup_tools').insert(s.tools.map((t) => ({ setup_id: setup.id, tool_id: toolIds.get(t) })));
+		await trx('setup_tools').insert(
+			s.tools.map((t) => ({ setup_id: setup.id, tool_id: toolIds.get(t) }))
+		);
 		await trx('setup_ops').insert(
-			s.ops.map((op, i) => ({ setup_id: setup.id, sequence: i + 1, name: op.name, fixture_id: fixtureIds.get(op.register) }))
+			s.ops.map((op, i) => ({
+				setup_id: setup.id,
+				sequence: i + 1,
+				name: op.name,
+				fixture_id: fixtureIds.get(op.register)
+			}))
 		);
 	}
 }

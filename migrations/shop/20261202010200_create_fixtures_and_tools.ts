@@ -30,7 +30,9 @@ export async function up(knex: Knex): Promise<void> {
 		t.timestamp('created_at', { useTz: true }).notNullable().defaultTo(knex.fn.now());
 		t.timestamp('archived_at', { useTz: true });
 	});
-	await knex.raw('create unique index tools_machine_t_active on tools (machine_id, t_number) where archived_at is null');
+	await knex.raw(
+		'create unique index tools_machine_t_active on tools (machine_id, t_number) where archived_at is null'
+	);
 	await knex.raw('create index tools_machine_idx on tools (machine_id)');
 	await knex.raw(`alter table tools
 		add constraint tools_t_number_check check (t_number between 1 and 9999),

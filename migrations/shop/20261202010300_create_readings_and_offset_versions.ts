@@ -43,7 +43,10 @@ export async function up(knex: Knex): Promise<void> {
 		t.integer('reference_version').notNullable();
 		t.bigInteger('created_by');
 		t.timestamp('created_at', { useTz: true }).notNullable().defaultTo(knex.fn.now());
-		t.index(['machine_id', 'register_kind', 'register', 'created_at'], 'offset_versions_register_idx');
+		t.index(
+			['machine_id', 'register_kind', 'register', 'created_at'],
+			'offset_versions_register_idx'
+		);
 	});
 	await knex.raw(
 		`alter table offset_versions add constraint offset_versions_kind_check check (register_kind in ('work','tool'))`
@@ -60,9 +63,10 @@ export async function up(knex: Knex): Promise<void> {
 			`create trigger ${table}_append_only before update or delete on ?? for each row execute function refuse_change()`,
 			[table]
 		);
-		await knex.raw(`create trigger ${table}_no_truncate before truncate on ?? execute function refuse_change()`, [
-			table
-		]);
+		await knex.raw(
+			`create trigger ${table}_no_truncate before truncate on ?? execute function refuse_change()`,
+			[table]
+		);
 	}
 }
 
