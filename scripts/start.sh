@@ -28,10 +28,10 @@ pids=()
 cleanup() { for p in "${pids[@]}"; do kill "$p" 2>/dev/null || true; done; wait 2>/dev/null || true; }
 trap cleanup EXIT INT TERM
 
-npx tsx fakes/index.ts & pids+=($!)
-if [ -f workers/index.ts ]; then npx tsx workers/index.ts & pids+=($!); fi
+node_modules/.bin/tsx fakes/index.ts & pids+=($!)
+if [ -f workers/index.ts ]; then node_modules/.bin/tsx workers/index.ts & pids+=($!); fi
 
 npx tsx scripts/banner.ts
-npx vite dev --host 127.0.0.1 --port "$PORT" --strictPort &
+node_modules/.bin/vite dev --host 127.0.0.1 --port "$PORT" --strictPort &
 pids+=($!)
 wait "${pids[-1]}"
