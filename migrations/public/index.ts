@@ -2,6 +2,9 @@ import type { Knex } from 'knex';
 import * as m0001 from './20261202000100_create_shops_users_memberships';
 import * as m0002 from './20261202000200_create_invitations_and_password_resets';
 import * as m0003 from './20261202000300_create_email_log';
+import * as m0004 from './20261202020000_add_subscription_to_shops';
+import * as m0005 from './20261202020100_create_billing_events';
+import * as m0006 from './20261202020200_create_billing_invoices';
 
 /**
  * The public-schema migrations, in order. Listed by hand (not read from the folder) so the
@@ -11,5 +14,8 @@ import * as m0003 from './20261202000300_create_email_log';
 export const publicMigrations: Record<string, Knex.Migration> = {
 	'20261202000100_create_shops_users_memberships': m0001,
 	'20261202000200_create_invitations_and_password_resets': m0002,
-	'20261202000300_create_email_log': m0003
+	'20261202000300_create_email_log': m0003,
+	'20261202020000_add_subscription_to_shops': m0004,
+	'20261202020100_create_billing_events': m0005,
+	'20261202020200_create_billing_invoices': m0006
 };

@@ -28,6 +28,10 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 		actions: ['invite', 'changeRole', 'remove', 'resend', 'revoke']
 	},
 	'/shops/[shop]/audit': { allowed: ['owner', 'admin'] },
+	'/shops/[shop]/billing': {
+		allowed: ['owner', 'admin'],
+		actions: ['choosePlan', 'manageBilling']
+	},
 	'/api/v1/shops/[shop]/machines': { allowed: ALL }
 };
 
@@ -35,6 +39,8 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 const OTHER_ROUTES: Record<string, { path: string; status: number }> = {
 	'/': { path: '/', status: 200 },
 	'/healthz': { path: '/healthz', status: 200 },
+	// Stripe's webhook: POST only, authenticated by its signature (tests/e2e/billing.spec.ts).
+	'/api/v1/stripe/webhook': { path: '/api/v1/stripe/webhook', status: 405 },
 	'/signin': { path: '/signin', status: 303 },
 	'/signup': { path: '/signup', status: 303 },
 	'/signout': { path: '/signout', status: 303 },

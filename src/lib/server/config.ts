@@ -16,6 +16,34 @@ export const config = {
 		if (process.env.FAKE_SES_PORT) return `http://127.0.0.1:${process.env.FAKE_SES_PORT}`;
 		return undefined;
 	},
+	/**
+	 * Stripe (issue 8): secret key and webhook secret from the environment (server only). The
+	 * API host is real Stripe unless FAKE_STRIPE_PORT points the SDK at the local fake, or
+	 * STRIPE_API_HOST/STRIPE_API_PORT/STRIPE_API_PROTOCOL name another endpoint.
+	 */
+	get stripe(): {
+		secretKey: string | undefined;
+		webhookSecret: string | undefined;
+		api: { host: string; port: number; protocol: 'http' | 'https' } | undefined;
+	} {
+		const fakePort = process.env.FAKE_STRIPE_PORT;
+		const host = process.env.STRIPE_API_HOST;
+		const api = host
+			? {
+					host,
+					port: Number(process.env.STRIPE_API_PORT ?? 443),
+					protocol:
+						process.env.STRIPE_API_PROTOCOL === 'http' ? ('http' as const) : ('https' as const)
+				}
+			: fakePort
+				? { host: '127.0.0.1', port: Number(fakePort), protocol: 'http' as const }
+				: undefined;
+		return {
+			secretKey: process.env.STRIPE_SECRET_KEY || undefined,
+			webhookSecret: process.env.STRIPE_WEBHOOK_SECRET || undefined,
+			api
+		};
+	},
 	/** Public base URL of the app, for links in e-mails. */
 	get origin(): string {
 		return process.env.ORIGIN ?? `http://127.0.0.1:${process.env.PORT ?? 5173}`;
