@@ -55,7 +55,7 @@ export interface DemoMachine {
 	setups: {
 		name: string;
 		job: string;
-		status: 'planned' | 'running' | 'done';
+		status: 'planned' | 'on-machine' | 'proven' | 'closed';
 		margin: number;
 		fixtures: { register: string; obstacle: number }[];
 		tools: number[];
@@ -169,7 +169,7 @@ export const demoShops: DemoShop[] = [
 					{
 						name: 'Pump housing, ops A and B',
 						job: 'Job 4471 — pump housing PH-220, 40 pcs',
-						status: 'running',
+						status: 'on-machine',
 						margin: 0.5,
 						fixtures: [
 							{ register: 'G54', obstacle: 3.125 },
@@ -237,7 +237,7 @@ export const demoShops: DemoShop[] = [
 					{
 						name: 'Aluminium bracket',
 						job: 'Job 4478 — bracket BR-12, 120 pcs',
-						status: 'running',
+						status: 'on-machine',
 						margin: 0.5,
 						fixtures: [{ register: 'G54', obstacle: 2.25 }],
 						tools: [1, 6],

@@ -215,6 +215,13 @@ async function seedMachine(
 				created_at: ctx.ago(4)
 			})
 			.returning('id');
+		await trx('setup_status_changes').insert({
+			setup_id: setup.id,
+			from_status: null,
+			to_status: s.status,
+			changed_by: ctx.lead,
+			changed_at: ctx.ago(4)
+		});
 		await trx('setup_fixtures').insert(
 			s.fixtures.map((f) => ({
 				setup_id: setup.id,

@@ -5,6 +5,9 @@ import * as m0003 from './20261202010300_create_readings_and_offset_versions';
 import * as m0004 from './20261202010400_create_setups';
 import * as m0005 from './20261202010500_create_findings';
 import * as m0006 from './20261202010600_create_audit_log';
+import * as m0007 from './20261202030000_change_setup_states';
+import * as m0008 from './20261202030100_create_setup_status_changes';
+import * as m0009 from './20261202030200_create_setup_photos';
 
 /**
  * The migrations every shop schema gets, in order. Schema-agnostic: they run with the search
@@ -17,5 +20,8 @@ export const shopMigrations: Record<string, Knex.Migration> = {
 	'20261202010300_create_readings_and_offset_versions': m0003,
 	'20261202010400_create_setups': m0004,
 	'20261202010500_create_findings': m0005,
-	'20261202010600_create_audit_log': m0006
+	'20261202010600_create_audit_log': m0006,
+	'20261202030000_change_setup_states': m0007,
+	'20261202030100_create_setup_status_changes': m0008,
+	'20261202030200_create_setup_photos': m0009
 };

@@ -47,7 +47,7 @@ export async function listMachineSummaries(trx: Knex.Transaction): Promise<Machi
 				'(select established_at from reference_surfaces rs where rs.machine_id = m.id order by version desc limit 1) as reference_established_at'
 			),
 			trx.raw(
-				"(select name from setups s where s.machine_id = m.id and s.status = 'running' order by created_at desc limit 1) as running_setup"
+				"(select name from setups s where s.machine_id = m.id and s.status in ('on-machine', 'proven') order by created_at desc limit 1) as running_setup"
 			)
 		)
 		.orderBy('m.name');

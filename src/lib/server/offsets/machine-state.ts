@@ -199,7 +199,7 @@ export async function engineSetups(
 ): Promise<Setup[]> {
 	const setups = await trx('setups')
 		.where({ machine_id: machine.id })
-		.whereIn('status', ['planned', 'running'])
+		.whereIn('status', ['planned', 'on-machine', 'proven'])
 		.select('id', 'name', 'clearance_margin');
 	if (setups.length === 0) return [];
 	const ids = setups.map((s) => s.id);
