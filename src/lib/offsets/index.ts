@@ -87,3 +87,15 @@ export {
 export { parseLoadProgram } from './parse-load-program';
 export { gaugeStack } from './gauge-blocks';
 export { GAUGE_SETS, findGaugeSet, gaugeSetBlocks, type GaugeSet } from './gauge-sets';
+export {
+	checkProgram,
+	createProgramChecker,
+	programSetupSchema,
+	REGISTER_STATES,
+	MAX_LINE_CHARS,
+	type ProgramChecker,
+	type ProgramCheckResult,
+	type ProgramStats,
+	type ProgramSetup,
+	type RegisterState
+} from './program';

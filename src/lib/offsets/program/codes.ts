@@ -1,0 +1,87 @@
+/**
+ * What each G code (× 10) means to the check. Semantics: NIST RS274NGC v3 (NISTIR 6556)
+ * §3.4 modal groups, §3.5 codes; ISO-style extras (G54.1 Pn, G65, G68.2) [memory].
+ */
+
+/** How the interpreter treats a G code. */
+export const GKind = {
+	/** Known and changes nothing the check follows (G4, G40–G42, G61, G64, G93–G95, G17–G19…). */
+	Ignore: 0,
+	Motion: 1,
+	Cycle: 2,
+	CycleCancel: 3,
+	Units: 4,
+	Distance: 5,
+	LengthOn: 6,
+	LengthOff: 7,
+	Work: 8,
+	WorkExtended: 9,
+	/** G59.1–G59.3: RS274NGC systems 7–9, not registers Datumkeep keeps. */
+	WorkUnsupported: 10,
+	MachineCoords: 11,
+	Home: 12,
+	Retract: 13,
+	/** Followed only as far as a caution: G10, G92, G52, G51, G30, probing, macros, G43.x. */
+	Caution: 14,
+	ShiftCancel: 15,
+	Unknown: 16
+} as const;
+export type GKind = (typeof GKind)[keyof typeof GKind];
+
+/** Why a caution-only code is not followed (for the message). */
+export const CAUTION_WHY: Record<number, string> = {
+	100: 'it writes offsets from inside the program; this check uses the setup’s table',
+	300: 'the second reference position is machine-specific; heights after it are not known',
+	310: 'probing stops wherever it touches; heights after it are not known',
+	380: 'probing stops wherever it touches; heights after it are not known',
+	382: 'probing stops wherever it touches; heights after it are not known',
+	383: 'probing stops wherever it touches; heights after it are not known',
+	384: 'probing stops wherever it touches; heights after it are not known',
+	385: 'probing stops wherever it touches; heights after it are not known',
+	431: 'a dynamic length offset is not one the setup holds',
+	434: 'tool-tip control moves rotary axes this check does not follow',
+	510: 'scaling can change every Z',
+	520: 'a local coordinate shift moves program zero',
+	650: 'macro calls are not followed',
+	660: 'macro calls are not followed',
+	682: 'tilted working planes are not followed',
+	920: 'it shifts the coordinates; Z heights after it are not known'
+};
+
+const IGNORE = [
+	40, 90, 150, 160, 170, 180, 190, 400, 410, 420, 500, 610, 611, 640, 670, 680, 690, 930, 940, 950,
+	960, 970
+];
+const CYCLES = [730, 740, 760, 810, 820, 830, 840, 850, 860, 870, 880, 890];
+
+const TABLE = new Map<number, GKind>();
+for (const c of IGNORE) TABLE.set(c, GKind.Ignore);
+for (const c of [0, 10, 20, 30]) TABLE.set(c, GKind.Motion);
+for (const c of CYCLES) TABLE.set(c, GKind.Cycle);
+TABLE.set(800, GKind.CycleCancel);
+TABLE.set(200, GKind.Units);
+TABLE.set(210, GKind.Units);
+TABLE.set(900, GKind.Distance);
+TABLE.set(910, GKind.Distance);
+TABLE.set(430, GKind.LengthOn);
+TABLE.set(490, GKind.LengthOff);
+for (const c of [540, 550, 560, 570, 580, 590]) TABLE.set(c, GKind.Work);
+TABLE.set(541, GKind.WorkExtended);
+for (const c of [591, 592, 593]) TABLE.set(c, GKind.WorkUnsupported);
+TABLE.set(530, GKind.MachineCoords);
+TABLE.set(280, GKind.Home);
+TABLE.set(980, GKind.Retract);
+TABLE.set(990, GKind.Retract);
+for (const c of Object.keys(CAUTION_WHY)) TABLE.set(Number(c), GKind.Caution);
+TABLE.set(921, GKind.ShiftCancel);
+TABLE.set(922, GKind.ShiftCancel);
+
+/** The kind of a G code × 10. */
+export function gKind(code: number): GKind {
+	return TABLE.get(code) ?? GKind.Unknown;
+}
+
+/** "G54.1" for 541, "G0" for 0. */
+export function gText(code: number): string {
+	return code % 10 === 0 ? `G${code / 10}` : `G${Math.trunc(code / 10)}.${Math.abs(code % 10)}`;
+}

@@ -1,0 +1,143 @@
+/**
+ * Reads one line of an RS274/ISO 6983-style word-address program into a Block, by character
+ * codes only: no regular expressions, no substrings, nothing allocated. Word format: a letter,
+ * optional spaces, an optional sign and a decimal number (ISO 6983-1 [memory]; NIST RS274NGC
+ * v3 (NISTIR 6556) §3.3). Comments are "( … )" to the end of the parenthesis or ";" to the end
+ * of the line; "/" first on a line is block delete; "%" marks the start or end of the tape.
+ */
+import { ABSENT, Block, L, NUMBER, ScanProblem, UNKNOWN, Unmodelled } from './block';
+
+const POW10: number[] = [];
+for (let i = 0; i <= 22; i++) POW10.push(10 ** i);
+
+const SPACE = 32;
+const TAB = 9;
+
+function problem(b: Block, kind: ScanProblem, char: number, col: number): void {
+	b.problem = kind;
+	b.problemChar = char;
+	b.problemCol = col;
+}
+
+/**
+ * After a word the scanner could not follow (a parameter, a macro word), X, Y or Z further
+ * on may still move the machine: mark them unknown so no height is trusted on this line.
+ */
+function markRestUnknown(text: string, from: number, end: number, b: Block): void {
+	for (let i = from; i < end; i++) {
+		const u = text.charCodeAt(i) | 32;
+		const letter = u - 97;
+		if ((letter === L.X || letter === L.Y || letter === L.Z) && b.has[letter] === ABSENT)
+			b.has[letter] = UNKNOWN;
+	}
+}
+
+/** Reads text[start, end) (one line, no line break) into `b`. Never throws. */
+export function scanLine(text: string, start: number, end: number, b: Block): void {
+	b.reset();
+	let i = start;
+	while (i < end) {
+		const c = text.charCodeAt(i);
+		if (c !== SPACE && c !== TAB) break;
+		i++;
+	}
+	if (i < end && text.charCodeAt(i) === 47) {
+		b.blockDelete = true;
+		i++;
+	}
+	while (i < end) {
+		const c = text.charCodeAt(i);
+		if (c === SPACE || c === TAB) {
+			i++;
+			continue;
+		}
+		const letter = (c | 32) - 97;
+		if (letter >= 0 && letter < 26 && c >= 65) {
+			let j = i + 1;
+			while (j < end && (text.charCodeAt(j) === SPACE || text.charCodeAt(j) === TAB)) j++;
+			if (j >= end) return problem(b, ScanProblem.NoNumber, c, i - start + 1);
+			const d = text.charCodeAt(j);
+			if (d === 35 || d === 91) {
+				// "#" or "[": a parameter or expression (NISTIR 6556 §3.3.2); value unknown here.
+				b.words++;
+				b.unmodelled = Unmodelled.Parameter;
+				if (letter !== L.G && letter !== L.M) b.has[letter] = UNKNOWN;
+				markRestUnknown(text, j, end, b);
+				return;
+			}
+			const dl = (d | 32) - 97;
+			if (dl >= 0 && dl < 26 && d >= 65) {
+				// Two letters together never form a word; they are macro statements (IF, GOTO…).
+				b.words++;
+				b.unmodelled = Unmodelled.MacroWord;
+				markRestUnknown(text, j, end, b);
+				return;
+			}
+			let k = j;
+			let negative = false;
+			if (d === 45) {
+				negative = true;
+				k++;
+			} else if (d === 43) k++;
+			let mantissa = 0;
+			let digits = 0;
+			let places = 0;
+			let dot = false;
+			while (k < end) {
+				const e = text.charCodeAt(k);
+				if (e >= 48 && e <= 57) {
+					mantissa = mantissa * 10 + (e - 48);
+					digits++;
+					if (dot) places++;
+					k++;
+				} else if (e === 46 && !dot) {
+					dot = true;
+					k++;
+				} else break;
+			}
+			if (digits === 0) return problem(b, ScanProblem.NoNumber, c, i - start + 1);
+			let value =
+				places === 0 ? mantissa : mantissa / (places <= 22 ? POW10[places] : 10 ** places);
+			if (!Number.isFinite(value)) return problem(b, ScanProblem.NoNumber, c, i - start + 1);
+			if (negative) value = -value;
+			b.words++;
+			if (letter === L.G || letter === L.M) {
+				if (!b.addCode(letter, Math.round(value * 10)))
+					return problem(b, ScanProblem.TooManyCodes, c, i - start + 1);
+			} else if (letter !== L.N) {
+				// N is a sequence number: it names a block and changes nothing (NISTIR 6556 §3.3).
+				if (b.has[letter] !== ABSENT) return problem(b, ScanProblem.Duplicate, c, i - start + 1);
+				b.has[letter] = NUMBER;
+				b.val[letter] = value;
+			}
+			i = k;
+			continue;
+		}
+		if (c === 40) {
+			// Comments do not nest (NISTIR 6556 §3.3.4): the first ")" closes.
+			const close = text.indexOf(')', i + 1);
+			if (close < 0 || close >= end) return problem(b, ScanProblem.OpenComment, c, i - start + 1);
+			i = close + 1;
+			continue;
+		}
+		if (c === 59) return;
+		if (c === 37 && b.words === 0) {
+			b.percent = true;
+			return;
+		}
+		if (c === 35) {
+			// "#100 = 2": a parameter setting.
+			b.words++;
+			b.unmodelled = Unmodelled.Parameter;
+			markRestUnknown(text, i, end, b);
+			return;
+		}
+		if (c === 58 && b.words === 0) {
+			// ":1234" is a program number on ISO-style controls, like O1234.
+			i++;
+			continue;
+		}
+		const binary = (c < 32 && c !== TAB) || (c >= 127 && c !== 0xfeff);
+		return problem(b, binary ? ScanProblem.Binary : ScanProblem.BadChar, c, i - start + 1);
+	}
+}
