@@ -1,0 +1,78 @@
+import { z } from 'zod';
+import { controlStyleSchema, conventionSchema, unitsSchema } from '$lib/offsets';
+
+/**
+ * Machine and reference forms, shared by the pages and the API. Enum fields reuse the engine's
+ * schemas so a form can never save a value the engine cannot read.
+ */
+export const INSTRUMENTS = ['1-2-3 block', 'gauge block', 'tool setter', 'other'] as const;
+
+const finite = (label: string) =>
+	z.coerce
+		.number({ message: `${label} must be a number.` })
+		.refine(Number.isFinite, `${label} must be a finite number.`);
+
+const machineShape = {
+	name: z
+		.string()
+		.trim()
+		.min(1, 'Give the machine a name.')
+		.max(60, 'Name too long (60 characters at most).'),
+	units: unitsSchema,
+	zTravel: finite('Z travel').refine((v) => v > 0, 'Z travel must be greater than zero.'),
+	resolution: finite('Least increment').refine(
+		(v) => v > 0,
+		'Least increment must be greater than zero.'
+	),
+	controlStyle: controlStyleSchema.default('iso'),
+	convention: conventionSchema.default('reference-touch'),
+	notes: z.string().trim().max(2000, 'Notes too long (2000 characters at most).').default('')
+};
+
+function plausibleMachine(
+	m: { units: 'inch' | 'mm'; zTravel: number; resolution: number },
+	ctx: z.RefinementCtx
+) {
+	// Plausibility, our own bounds: no vertical machining centre has Z travel of 2 m or more.
+	const maxTravel = m.units === 'inch' ? 80 : 2000;
+	if (m.zTravel >= maxTravel) {
+		ctx.addIssue({
+			code: 'custom',
+			path: ['zTravel'],
+			message: `Z travel ${m.zTravel} ${m.units === 'inch' ? 'in' : 'mm'} is implausible (must be under ${maxTravel}); check the units.`
+		});
+	}
+	const allowed = m.units === 'inch' ? [0.0001, 0.00005, 0.001] : [0.001, 0.0005, 0.01];
+	if (!allowed.includes(m.resolution)) {
+		ctx.addIssue({
+			code: 'custom',
+			path: ['resolution'],
+			message: `Least increment for ${m.units} must be one of ${allowed.join(', ')}.`
+		});
+	}
+}
+
+export const machineFormSchema = z.object(machineShape).superRefine(plausibleMachine);
+
+const referenceShape = {
+	instrument: z.enum(INSTRUMENTS, {
+		message: `Instrument must be one of: ${INSTRUMENTS.join(', ')}.`
+	}),
+	height: finite('Height').refine((v) => v >= 0, 'Height cannot be negative.'),
+	location: z.string().trim().max(200, 'Location too long (200 characters at most).').default(''),
+	gaugeLineZ: z
+		.union([z.literal(''), finite('Gauge-line Z')])
+		.default('')
+		.refine(
+			(v) => v === '' || v < 0,
+			'Gauge-line Z is a machine coordinate below Z home, so it must be negative.'
+		),
+	note: z.string().trim().max(500, 'Note too long (500 characters at most).').default('')
+};
+
+export const referenceFormSchema = z.object(referenceShape);
+
+/** New machine: the machine and its first reference on one form. */
+export const newMachineSchema = z
+	.object({ ...machineShape, ...referenceShape })
+	.superRefine(plausibleMachine);

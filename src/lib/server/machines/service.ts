@@ -1,0 +1,135 @@
+import type { Knex } from 'knex';
+import type { z } from 'zod';
+import type { machineFormSchema, newMachineSchema } from '$lib/schemas/machine';
+import { audit } from '../audit';
+import { assertCanAddMachine } from '../billing/gate';
+import type { ShopRef } from '../db/tenant';
+
+type NewMachine = z.infer<typeof newMachineSchema>;
+type MachineEdit = z.infer<typeof machineFormSchema>;
+export interface Actor {
+	id: number;
+	email: string;
+}
+
+export type ServiceResult<T = object> =
+	({ ok: true } & T) | { ok: false; field?: string; message: string };
+
+const nameTaken = (e: unknown) =>
+	(e as { code?: string; constraint?: string }).code === '23505' &&
+	/machines_name_unique/.test(String((e as { constraint?: string }).constraint));
+
+/**
+ * Adds a machine with its first reference, after the plan's machine limit (checked inside the
+ * same transaction, with the shop's billing row locked) — the limit is a server rule, not a
+ * hidden button.
+ */
+export async function createMachine(
+	knex: Knex,
+	shop: ShopRef,
+	input: NewMachine,
+	by: Actor,
+	ip = ''
+): Promise<ServiceResult<{ id: number }>> {
+	try {
+		return await knex.transaction(async (trx) => {
+			const gate = await assertCanAddMachine(trx, shop);
+			if (!gate.ok) return { ok: false, message: gate.message };
+			await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+			const [row] = await trx('machines')
+				.insert({
+					name: input.name,
+					units: input.units,
+					z_travel: input.zTravel,
+					resolution: input.resolution,
+					control_style: input.controlStyle,
+					convention: input.convention,
+					notes: input.notes
+				})
+				.returning('id');
+			const id = Number(row.id);
+			await trx('reference_surfaces').insert({
+				machine_id: id,
+				version: 1,
+				instrument: input.instrument,
+				height: input.height,
+				location: input.location,
+				gauge_line_z: input.gaugeLineZ === '' ? null : input.gaugeLineZ,
+				established_by: by.id,
+				note: input.note
+			});
+			await audit(trx, {
+				actorUserId: by.id,
+				actorEmail: by.email,
+				action: 'machine.created',
+				target: input.name,
+				detail: { units: input.units, zTravel: input.zTravel, convention: input.convention },
+				ip
+			});
+			return { ok: true as const, id };
+		});
+	} catch (e) {
+		if (nameTaken(e))
+			return {
+				ok: false,
+				field: 'name',
+				message: `A machine named "${input.name}" already exists in this shop.`
+			};
+		throw e;
+	}
+}
+
+/**
+ * Edits a machine's description. Units and convention hold the meaning of every recorded
+ * number, so units cannot change once readings exist, and the convention changes only through
+ * the conversion page (which converts the table).
+ */
+export async function updateMachine(
+	trx: Knex.Transaction,
+	machineId: number,
+	input: Omit<MachineEdit, 'convention'>,
+	by: Actor,
+	ip = ''
+): Promise<ServiceResult> {
+	const current = await trx('machines').where({ id: machineId }).first('units', 'name');
+	if (input.units !== current.units) {
+		const [{ n }] = await trx('readings').where({ machine_id: machineId }).count({ n: '*' });
+		if (Number(n) > 0) {
+			return {
+				ok: false,
+				field: 'units',
+				message: `Units cannot change from ${current.units} to ${input.units}: this machine already has ${n} readings recorded in ${current.units}. Add a new machine instead.`
+			};
+		}
+	}
+	try {
+		await trx.raw('savepoint machine_update');
+		await trx('machines').where({ id: machineId }).update({
+			name: input.name,
+			units: input.units,
+			z_travel: input.zTravel,
+			resolution: input.resolution,
+			control_style: input.controlStyle,
+			notes: input.notes
+		});
+		await trx.raw('release savepoint machine_update');
+	} catch (e) {
+		await trx.raw('rollback to savepoint machine_update');
+		if (nameTaken(e))
+			return {
+				ok: false,
+				field: 'name',
+				message: `A machine named "${input.name}" already exists in this shop.`
+			};
+		throw e;
+	}
+	await audit(trx, {
+		actorUserId: by.id,
+		actorEmail: by.email,
+		action: 'machine.updated',
+		target: input.name,
+		detail: { from: current.name },
+		ip
+	});
+	return { ok: true };
+}
