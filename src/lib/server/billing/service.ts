@@ -110,10 +110,11 @@ async function ensureCustomer(
 ): Promise<string> {
 	const b = await getShopBilling(knex, shop.id);
 	if (b.stripeCustomerId) return b.stripeCustomerId;
-	const customer = await stripe().customers.create(
-		{ name: shop.name, email: by.email, metadata: { shop_id: String(shop.id), shop: shop.slug } },
-		{ idempotencyKey: `datumkeep-customer-shop-${shop.id}` }
-	);
+	const customer = await stripe().customers.create({
+		name: shop.name,
+		email: by.email,
+		metadata: { shop_id: String(shop.id), shop: shop.slug }
+	});
 	// Two clicks at once: the first stored id wins and both use it.
 	await knex('public.shops')
 		.where({ id: shop.id })

@@ -1,7 +1,5 @@
 import { fail, redirect, type RequestEvent } from '@sveltejs/kit';
 import Stripe from 'stripe';
-import { superValidate } from 'sveltekit-superforms';
-import { zod4 } from 'sveltekit-superforms/adapters';
 import { choosePlanSchema, manageBillingSchema } from '$lib/schemas/billing';
 import { clientAddress } from '$lib/server/auth/client-address';
 import { billingOverview, choosePlan, openPortal } from '$lib/server/billing/service';
@@ -33,11 +31,18 @@ function providerFailure(e: unknown) {
 
 const origin = (event: RequestEvent) => event.url.origin;
 
+/**
+ * The posted fields as given. Parsed with zod directly rather than superValidate, which fills a
+ * missing enum with its first value: a POST without a plan must be refused, not read as Bench.
+ */
+const fields = (data: FormData) =>
+	Object.fromEntries([...data.entries()].filter(([, v]) => typeof v === 'string'));
+
 export const actions: Actions = {
 	choosePlan: async (event) => {
 		const { shop, user } = await requireMember(event, 'billing');
-		const form = await superValidate(await event.request.formData(), zod4(choosePlanSchema));
-		if (!form.valid) return fail(400, { error: form.errors.plan?.[0] ?? 'Choose a plan.' });
+		const form = choosePlanSchema.safeParse(fields(await event.request.formData()));
+		if (!form.success) return fail(400, { error: form.error.issues[0].message });
 		let result;
 		try {
 			result = await choosePlan(
@@ -57,8 +62,8 @@ export const actions: Actions = {
 	},
 	manageBilling: async (event) => {
 		const { shop, user } = await requireMember(event, 'billing');
-		const form = await superValidate(await event.request.formData(), zod4(manageBillingSchema));
-		if (!form.valid) return fail(400, { error: form.errors.focus?.[0] ?? 'Say what to manage.' });
+		const form = manageBillingSchema.safeParse(fields(await event.request.formData()));
+		if (!form.success) return fail(400, { error: form.error.issues[0].message });
 		let result;
 		try {
 			result = await openPortal(
