@@ -43,7 +43,9 @@ export const ScanProblem = {
 	/** Control bytes or bytes outside printable ASCII: not a text program. */
 	Binary: 5,
 	/** More G or M codes in one block than any control takes. */
-	TooManyCodes: 6
+	TooManyCodes: 6,
+	/** A number too large to be a length or a code. */
+	BadNumber: 7
 } as const;
 export type ScanProblem = (typeof ScanProblem)[keyof typeof ScanProblem];
 

@@ -116,15 +116,25 @@ class StreamChecker implements ProgramChecker {
 			i = this.afterBreak(chunk, i);
 			start = i;
 		}
-		while (i < n) {
-			const c = chunk.charCodeAt(i);
-			if (c !== 10 && c !== 13) {
-				i++;
-				continue;
+		if (chunk.indexOf('\r', i) < 0) {
+			// LF only (the usual case): the engine's native search beats a loop per character.
+			let nl = chunk.indexOf('\n', i);
+			while (nl >= 0) {
+				this.line(chunk, start, nl);
+				start = nl + 1;
+				nl = chunk.indexOf('\n', start);
 			}
-			this.line(chunk, start, i);
-			i = this.afterBreak(chunk, i);
-			start = i;
+		} else {
+			while (i < n) {
+				const c = chunk.charCodeAt(i);
+				if (c !== 10 && c !== 13) {
+					i++;
+					continue;
+				}
+				this.line(chunk, start, i);
+				i = this.afterBreak(chunk, i);
+				start = i;
+			}
 		}
 		if (start < n) this.extendCarry(chunk, start, n);
 	}

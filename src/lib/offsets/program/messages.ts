@@ -97,6 +97,8 @@ export const say = {
 				return `${shown(char)} appears twice on this line (again at column ${col}); the control will refuse it or use only one. Keep one.`;
 			case ScanProblem.Binary:
 				return `This line holds ${shown(char)} at column ${col}, which is not program text: the file may be binary or in an unexpected encoding. Upload the plain-text program.`;
+			case ScanProblem.BadNumber:
+				return `The number after ${shown(char)} at column ${col} is too large to be a real value; the control will refuse this line. Correct the number.`;
 			case ScanProblem.TooManyCodes:
 				return `Too many G or M codes on one line for a real block. Split it into several lines.`;
 			default:

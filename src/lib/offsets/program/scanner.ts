@@ -8,7 +8,7 @@
 import { ABSENT, Block, L, NUMBER, ScanProblem, UNKNOWN, Unmodelled } from './block';
 
 const POW10: number[] = [];
-for (let i = 0; i <= 22; i++) POW10.push(10 ** i);
+for (let i = 0; i <= 17; i++) POW10.push(10 ** i);
 
 const SPACE = 32;
 const TAB = 9;
@@ -66,13 +66,14 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 				return;
 			}
 			const dl = (d | 32) - 97;
-			if (dl >= 0 && dl < 26 && d >= 65) {
-				// Two letters together never form a word; they are macro statements (IF, GOTO…).
+			if (dl >= 0 && dl < 26 && d >= 65 && j === i + 1) {
+				// Two letters side by side never form a word: macro statements (IF, GOTO, o100 sub).
 				b.words++;
 				b.unmodelled = Unmodelled.MacroWord;
 				markRestUnknown(text, j, end, b);
 				return;
 			}
+			if (dl >= 0 && dl < 26 && d >= 65) return problem(b, ScanProblem.NoNumber, c, i - start + 1);
 			let k = j;
 			let negative = false;
 			if (d === 45) {
@@ -82,13 +83,17 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 			let mantissa = 0;
 			let digits = 0;
 			let places = 0;
+			let extra = 0;
 			let dot = false;
 			while (k < end) {
 				const e = text.charCodeAt(k);
 				if (e >= 48 && e <= 57) {
-					mantissa = mantissa * 10 + (e - 48);
+					// Past 16 digits a double holds no more: drop further decimals, count whole ones.
+					if (mantissa < 1e16) {
+						mantissa = mantissa * 10 + (e - 48);
+						if (dot) places++;
+					} else if (!dot) extra++;
 					digits++;
-					if (dot) places++;
 					k++;
 				} else if (e === 46 && !dot) {
 					dot = true;
@@ -96,9 +101,9 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 				} else break;
 			}
 			if (digits === 0) return problem(b, ScanProblem.NoNumber, c, i - start + 1);
-			let value =
-				places === 0 ? mantissa : mantissa / (places <= 22 ? POW10[places] : 10 ** places);
-			if (!Number.isFinite(value)) return problem(b, ScanProblem.NoNumber, c, i - start + 1);
+			let value = places === 0 ? mantissa : mantissa / POW10[places];
+			if (extra > 0) value *= 10 ** extra;
+			if (!Number.isFinite(value)) return problem(b, ScanProblem.BadNumber, c, i - start + 1);
 			if (negative) value = -value;
 			b.words++;
 			if (letter === L.G || letter === L.M) {
@@ -135,6 +140,8 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 		if (c === 58 && b.words === 0) {
 			// ":1234" is a program number on ISO-style controls, like O1234.
 			i++;
+			while (i < end && text.charCodeAt(i) >= 48 && text.charCodeAt(i) <= 57) i++;
+			b.words++;
 			continue;
 		}
 		const binary = (c < 32 && c !== TAB) || (c >= 127 && c !== 0xfeff);

@@ -65,13 +65,22 @@ export class Tally {
 		return true;
 	}
 
+	private lastTool = '';
+	private lastRange: TipRange | undefined;
+
 	/** Widens tool `t`'s tip range by `height` (ignored when unknown). */
 	tip(t: string, height: number): void {
 		if (Number.isNaN(height)) return;
-		const r = this.tips.get(t);
-		if (r) {
-			if (height < r.min) r.min = height;
-			if (height > r.max) r.max = height;
-		} else if (this.tips.size < TALLY_CAP) this.tips.set(t, { min: height, max: height });
+		// The same tool moves thousands of times in a row: skip the map look-up for it.
+		let r = t === this.lastTool ? this.lastRange : this.tips.get(t);
+		if (r === undefined) {
+			if (this.tips.size >= TALLY_CAP) return;
+			r = { min: height, max: height };
+			this.tips.set(t, r);
+		}
+		this.lastTool = t;
+		this.lastRange = r;
+		if (height < r.min) r.min = height;
+		if (height > r.max) r.max = height;
 	}
 }

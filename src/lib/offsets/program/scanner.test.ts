@@ -1,0 +1,96 @@
+import { describe, expect, test } from 'vitest';
+import { ABSENT, Block, L, NUMBER, ScanProblem, UNKNOWN, Unmodelled } from './block';
+import { scanLine } from './scanner';
+
+function scan(text: string): Block {
+	const b = new Block();
+	scanLine(text, 0, text.length, b);
+	return b;
+}
+
+describe('scanLine: word-address format (ISO 6983-1 [memory]; NISTIR 6556 §3.3)', () => {
+	test('letters, signs, decimals, spaces and lower case', () => {
+		const b = scan('n10 g1 x-1.5 Y +2. z.25 F 20');
+		expect(b.problem).toBe(ScanProblem.None);
+		expect([...b.g.slice(0, b.gCount)]).toEqual([10]);
+		expect(b.val[L.X]).toBe(-1.5);
+		expect(b.val[L.Y]).toBe(2);
+		expect(b.val[L.Z]).toBe(0.25);
+		expect(b.val[L.F]).toBe(20);
+		// N is a sequence number only (NISTIR 6556 §3.3)
+		expect(b.has[L.N]).toBe(ABSENT);
+		expect(b.words).toBe(6);
+	});
+
+	test('G and M codes with a decimal are kept × 10; several per line', () => {
+		const b = scan('G54.1 P3 G90 G0 M6 M8');
+		expect([...b.g.slice(0, b.gCount)]).toEqual([541, 900, 0]);
+		expect([...b.m.slice(0, b.mCount)]).toEqual([60, 80]);
+		expect(b.val[L.P]).toBe(3);
+	});
+
+	test('comments in parentheses and after ";" are skipped (NISTIR 6556 §3.3.4)', () => {
+		const b = scan('G0 (MOVE X9. ; here) Z1. ; X5.');
+		expect(b.has[L.X]).toBe(ABSENT);
+		expect(b.val[L.Z]).toBe(1);
+		expect(scan('(only a comment)').words).toBe(0);
+	});
+
+	test('block delete, % and program numbers', () => {
+		expect(scan('/G0 Z1.').blockDelete).toBe(true);
+		expect(scan('  / G0 Z1.').blockDelete).toBe(true);
+		expect(scan('%').percent).toBe(true);
+		expect(scan(':1234 (ISO program number)').problem).toBe(ScanProblem.None);
+		expect(scan('O1001').val[L.O]).toBe(1001);
+	});
+
+	test('parameters, expressions and macro words are unknown values, not errors', () => {
+		const p = scan('G1 X1. Z#101 Y2.');
+		expect(p.unmodelled).toBe(Unmodelled.Parameter);
+		expect(p.has[L.Z]).toBe(UNKNOWN);
+		expect(p.has[L.X]).toBe(NUMBER);
+		expect(p.has[L.Y]).toBe(UNKNOWN); // after an expression nothing further is trusted
+		expect(scan('#100 = 2.').unmodelled).toBe(Unmodelled.Parameter);
+		expect(scan('Z[#1+2.]').has[L.Z]).toBe(UNKNOWN);
+		expect(scan('IF [#1 GT 2] GOTO 5').unmodelled).toBe(Unmodelled.MacroWord);
+		expect(scan('o100 sub').unmodelled).toBe(Unmodelled.MacroWord);
+	});
+
+	test('problems carry the character and its column', () => {
+		const cases: [string, number, string, number][] = [
+			['G1 X', ScanProblem.NoNumber, 'X', 4],
+			['G1 X F20.', ScanProblem.NoNumber, 'X', 4],
+			['G1 X-. Y1.', ScanProblem.NoNumber, 'X', 4],
+			['G0 X1. (open', ScanProblem.OpenComment, '(', 8],
+			['G0 X1. X2.', ScanProblem.Duplicate, 'X', 8],
+			['G0 X1. = 2', ScanProblem.BadChar, '=', 8],
+			['G0\u0000X1.', ScanProblem.Binary, '\u0000', 3],
+			['G0 X1.é', ScanProblem.Binary, 'é', 7]
+		];
+		for (const [text, kind, char, col] of cases) {
+			const b = scan(text);
+			expect([b.problem, String.fromCharCode(b.problemChar), b.problemCol], text).toEqual([
+				kind,
+				char,
+				col
+			]);
+		}
+	});
+
+	test('a huge number is refused rather than read as Infinity', () => {
+		expect(scan(`X${'9'.repeat(400)}`).problem).toBe(ScanProblem.BadNumber);
+		expect(scan(`X${'1'.repeat(20)}`).val[L.X] / 1.1111111111111111e19).toBeCloseTo(1, 12);
+		expect(scan(`X1.${'0'.repeat(400)}1`).val[L.X]).toBe(1);
+	});
+
+	test('reads only [start, end) of a longer string and resets between lines', () => {
+		const text = 'G0 X1.\nG1 Z-2.';
+		const b = new Block();
+		scanLine(text, 7, text.length, b);
+		expect(b.has[L.X]).toBe(ABSENT);
+		expect(b.val[L.Z]).toBe(-2);
+		scanLine(text, 0, 6, b);
+		expect(b.has[L.Z]).toBe(ABSENT);
+		expect(b.val[L.X]).toBe(1);
+	});
+});
