@@ -56,7 +56,20 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	'/shops/[shop]/machines/[machine]/convention': {
 		allowed: ['owner', 'admin', 'lead'],
 		actions: ['preview', 'convert']
-	}
+	},
+	// Setups: every role plans and runs them (DESIGN.md §6 "setups, readings, program checks").
+	'/shops/[shop]/setups': { allowed: ALL },
+	'/shops/[shop]/setups/new': { allowed: ALL, actions: ['create'] },
+	'/shops/[shop]/setups/[setup]': {
+		allowed: ALL,
+		actions: ['save', 'status', 'copy', 'uploadPhoto', 'removePhoto']
+	},
+	'/shops/[shop]/setups/[setup]/sheet': { allowed: ALL },
+	'/shops/[shop]/setups/[setup]/photos': { allowed: ALL },
+	'/shops/[shop]/setups/[setup]/load-program': { allowed: ALL },
+	'/shops/[shop]/machines/[machine]/load-program': { allowed: ALL },
+	'/api/v1/shops/[shop]/setups': { allowed: ALL },
+	'/api/v1/shops/[shop]/setups/[setup]': { allowed: ALL }
 };
 
 /**

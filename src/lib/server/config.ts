@@ -48,6 +48,10 @@ export const config = {
 	get origin(): string {
 		return process.env.ORIGIN ?? `http://127.0.0.1:${process.env.PORT ?? 5173}`;
 	},
+	/** Where uploaded files (setup photos) are kept: UPLOADS_DIR, else .data/uploads. Never static/. */
+	get uploadsDir(): string {
+		return process.env.UPLOADS_DIR || '.data/uploads';
+	},
 	/** Set to 1 to let migrate/seed touch a database that is not on this machine. */
 	get allowRemoteDatabase(): boolean {
 		return process.env.DATUMKEEP_ALLOW_REMOTE_DB === '1';

@@ -1,0 +1,25 @@
+import { error } from '@sveltejs/kit';
+import type { Knex } from 'knex';
+import { getSetupDetail, setupTable, type SetupDetail } from './queries';
+import { buildLoadProgram, fileSlug, type LoadProgramResult } from './load-program';
+
+/** The setup named in the URL, or 404 (also for another shop's id: the schema has no such row). */
+export async function setupFromParam(
+	trx: Knex.Transaction,
+	param: string | undefined
+): Promise<SetupDetail> {
+	const id = Number(param);
+	const setup = Number.isSafeInteger(id) ? await getSetupDetail(trx, id) : undefined;
+	if (!setup) error(404, 'No such setup in this shop.');
+	return setup;
+}
+
+/** The setup's load program (its fixtures' and tools' registers only), or why not. */
+export function setupLoadProgram(setup: SetupDetail): LoadProgramResult {
+	const { table, missing } = setupTable(setup);
+	return buildLoadProgram(setup.machine, table, {
+		title: `${setup.machine.name} ${setup.name}`,
+		filename: fileSlug(setup.machine.name, setup.name),
+		missing
+	});
+}
