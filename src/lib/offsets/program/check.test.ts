@@ -50,7 +50,7 @@ describe('low-traverse', () => {
 		expect(found(text)).toEqual([['low-traverse', 11, 'stop']]);
 		const f = checkProgram(text, PUMP).findings[0];
 		expect(f.message).toMatch(/G55.*1\.3500 in.*5\.5000 in.*G54's clearance plane is Z 4\.2500 in/);
-		expect(f.data).toMatchObject({ from: 'G54', to: 'G55', clearanceHeight: 5.5 });
+		expect(f.data).toEqual({ from: 'G54', to: 'G55', clearanceHeight: 5.5, tipHeight: 1.35 });
 	});
 
 	test('a retract that is not high enough is still caught; exactly at the plane is clear', () => {

@@ -8,7 +8,7 @@
  * the reference: spindle machine Z − (R + L_t), the spindle Z at which tool t's tip would
  * touch the reference (DESIGN.md §2).
  */
-import type { Units } from '../units';
+import { roundToResolution, type Units } from '../units';
 import { ABSENT, Block, L, NUMBER, ScanProblem, UNKNOWN, Unmodelled } from './block';
 import { CAUTION_WHY, GKind, gKind, gText } from './codes';
 import type { FindingCollector } from './collector';
@@ -537,6 +537,11 @@ export class Interpreter {
 		return this.toolOffset + c;
 	}
 
+	/** A length for finding data, at the machine's increment (data is shown on screens). */
+	private r(v: number): number {
+		return Number.isFinite(v) && Math.abs(v) < 1e9 ? roundToResolution(v, this.ctx.resolution) : v;
+	}
+
 	private tipAt(z: number): number {
 		return z - this.touchZ();
 	}
@@ -564,7 +569,7 @@ export class Interpreter {
 				line,
 				say.overtravel(this.f, z, zMin, zMax, this.ctx.machineName),
 				{
-					machineZ: z
+					machineZ: this.r(z)
 				}
 			);
 	}
@@ -615,13 +620,18 @@ export class Interpreter {
 						safe,
 						this.ctx.planes[this.lowRegister]
 					),
-					{ tipHeight: low, clearanceHeight: safe, from: this.lowRegister, to: this.register }
+					{
+						tipHeight: this.r(low),
+						clearanceHeight: this.r(safe),
+						from: this.lowRegister,
+						to: this.register
+					}
 				);
 		} else if (a >= safe - this.eps && e < safe - this.eps) {
 			if (this.out.wants('low-traverse'))
 				this.out.add('low-traverse', 'caution', line, say.lowDiagonal(this.f, e, safe), {
-					tipHeight: e,
-					clearanceHeight: safe
+					tipHeight: this.r(e),
+					clearanceHeight: this.r(safe)
 				});
 		} else if (this.fixture && low < this.fixture.topHeight - this.eps) {
 			if (this.out.wants('low-traverse'))
@@ -631,8 +641,8 @@ export class Interpreter {
 					line,
 					say.lowOwnTop(this.f, this.register, low, this.fixture.topHeight),
 					{
-						tipHeight: low,
-						topHeight: this.fixture.topHeight
+						tipHeight: this.r(low),
+						topHeight: this.r(this.fixture.topHeight)
 					}
 				);
 		}
