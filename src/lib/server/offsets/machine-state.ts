@@ -160,12 +160,18 @@ export function tableFrom(machine: MachineRecord, offsets: CurrentOffset[]): Off
 export async function offsetHistory(
 	trx: Knex.Transaction,
 	machineId: number,
-	convention: Convention
+	convention: Convention,
+	excludeReadingId?: number
 ): Promise<NonNullable<CheckInput['history']>> {
 	const rows = await trx('offset_versions as o')
 		.leftJoin('readings as r', 'r.id', 'o.reading_id')
 		.where('o.machine_id', machineId)
 		.andWhere('o.convention', convention)
+		// A reading corrected by a later one was wrong: it is no baseline for jumps and slips.
+		.whereRaw('not exists (select 1 from readings c where c.corrects_reading_id = o.reading_id)')
+		.modify((q) => {
+			if (excludeReadingId) q.whereRaw('o.reading_id is distinct from ?', [excludeReadingId]);
+		})
 		.orderBy([{ column: 'o.created_at' }, { column: 'o.id' }])
 		.select(
 			'o.register_kind',
@@ -270,11 +276,23 @@ export async function machineState(
 	trx: Knex.Transaction,
 	machine: MachineRecord,
 	now = new Date(),
-	overrides?: { kind: 'work' | 'tool'; register: string; value: number; toolChange?: boolean }
+	overrides?: {
+		kind: 'work' | 'tool';
+		register: string;
+		value: number;
+		toolChange?: boolean;
+		/** The preview is a correction of this reading: leave it out of the history. */
+		correctsReadingId?: number;
+	}
 ): Promise<MachineState> {
 	const references = await listReferences(trx, machine.id);
 	const offsets = await currentOffsets(trx, machine.id);
-	const history = await offsetHistory(trx, machine.id, machine.convention);
+	const history = await offsetHistory(
+		trx,
+		machine.id,
+		machine.convention,
+		overrides?.correctsReadingId
+	);
 	const reference = references[0] ?? null;
 	const table = tableFrom(machine, offsets);
 	if (overrides) {

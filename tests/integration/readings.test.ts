@@ -1,0 +1,327 @@
+import type { Knex } from 'knex';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { toolReadingSchema, partTopReadingSchema } from '$lib/schemas/readings';
+import { withShop, type ShopRef } from '$lib/server/db/tenant';
+import { getMachine, machineState, type MachineRecord } from '$lib/server/offsets/machine-state';
+import {
+	previewToolReading,
+	ReadingInputError,
+	recordPartTopReading,
+	recordToolReading
+} from '$lib/server/readings/record';
+import { recordReference } from '$lib/server/readings/reference';
+import { registerHistory } from '$lib/server/readings/history';
+import { provisionShop } from '$lib/server/shops/provision';
+import { testDb, uniqueSuffix } from './db';
+
+/**
+ * Reading flows against the real PostgreSQL: a reading and its offset version are written
+ * together or not at all, re-establishing a reference makes older offsets stale, and the
+ * correction rules. Each run provisions its own shop so the demo data is never touched.
+ */
+const knex: Knex = testDb();
+let shop: ShopRef;
+let actor: { id: number; email: string };
+let machineId: number;
+let toolId: number;
+let tool2Id: number;
+let fixtureId: number;
+const DAY = 86_400_000;
+
+const tool = (over: Partial<ReturnType<typeof toolReadingSchema.parse>> = {}) =>
+	toolReadingSchema.parse({ machineZ: '-14.7002', ...over });
+const inShop = <T>(fn: (trx: Knex.Transaction, m: MachineRecord) => Promise<T>) =>
+	withShop(shop, async (trx) => fn(trx, (await getMachine(trx, machineId))!), knex);
+const count = (table: string) =>
+	withShop(shop, async (trx) => Number((await trx(table).count('* as n'))[0].n), knex);
+
+beforeAll(async () => {
+	const email = `readings-${uniqueSuffix()}@example.test`;
+	const [u] = await knex('users').insert({ email, name: 'Rita Reader' }).returning('id');
+	actor = { id: Number(u.id), email };
+	shop = await provisionShop(knex, { name: 'Readings Test', slug: `readings-${uniqueSuffix()}` });
+	await withShop(
+		shop,
+		async (trx) => {
+			const [m] = await trx('machines')
+				.insert({ name: 'Test Mill', units: 'inch', z_travel: 20, resolution: 0.0001 })
+				.returning('id');
+			machineId = Number(m.id);
+			await trx('reference_surfaces').insert({
+				machine_id: machineId,
+				version: 1,
+				instrument: '1-2-3 block',
+				height: 3,
+				established_at: new Date(Date.now() - 30 * DAY)
+			});
+			const [t1, t2] = await trx('tools')
+				.insert([
+					{ machine_id: machineId, t_number: 2, h_number: 2, description: '1/2 in end mill' },
+					{ machine_id: machineId, t_number: 3, h_number: 3, description: 'drill' }
+				])
+				.returning('id');
+			toolId = Number(t1.id);
+			tool2Id = Number(t2.id);
+			const [f] = await trx('fixtures')
+				.insert({ machine_id: machineId, register: 'G54', name: 'Vise' })
+				.returning('id');
+			fixtureId = Number(f.id);
+			// T2 measured 10 days ago at -14.7502 in.
+			const [r] = await trx('readings')
+				.insert({
+					machine_id: machineId,
+					kind: 'tool-touch',
+					tool_id: toolId,
+					machine_z: -14.7502,
+					reference_version: 1,
+					taken_by: actor.id,
+					taken_at: new Date(Date.now() - 10 * DAY)
+				})
+				.returning('id');
+			await trx('offset_versions').insert({
+				machine_id: machineId,
+				register_kind: 'tool',
+				register: '2',
+				value: -14.7502,
+				units: 'inch',
+				convention: 'reference-touch',
+				reading_id: r.id,
+				reference_version: 1,
+				created_by: actor.id,
+				created_at: new Date(Date.now() - 10 * DAY)
+			});
+		},
+		knex
+	);
+});
+afterAll(() => knex.destroy());
+
+describe('reading flows (real PostgreSQL)', () => {
+	it('previews the offset and the jump finding without writing anything', async () => {
+		const before = await count('readings');
+		const jump = await inShop((trx, m) => previewToolReading(trx, m, toolId, tool()));
+		expect(jump.preview.value).toBe(-14.7002);
+		expect(jump.preview.previous).toBe(-14.7502);
+		expect(jump.preview.delta).toBe(0.05);
+		expect(jump.preview.findings.map((f) => f.kind)).toContain('jump');
+		// Marked as a tool change, the same number is expected: no jump.
+		const changed = await inShop((trx, m) =>
+			previewToolReading(trx, m, toolId, tool({ toolChanged: true, reason: 'chipped' }))
+		);
+		expect(changed.preview.findings.map((f) => f.kind)).not.toContain('jump');
+		expect(await count('readings')).toBe(before);
+	});
+
+	it('refuses bad input with the field and why, and writes nothing', async () => {
+		const before = await count('readings');
+		const refused = async (form: ReturnType<typeof tool>) => {
+			try {
+				await inShop((trx, m) => recordToolReading(trx, m, toolId, form, actor));
+			} catch (e) {
+				expect(e).toBeInstanceOf(ReadingInputError);
+				return (e as ReadingInputError).issues;
+			}
+			throw new Error('expected a refusal');
+		};
+		expect(await refused(tool({ machineZ: 'abc' }))).toEqual([
+			expect.objectContaining({ field: 'machineZ', message: expect.stringMatching(/number/) })
+		]);
+		expect(await refused(tool({ machineZ: '-25.0000' }))).toEqual([
+			expect.objectContaining({ field: 'machineZ', message: expect.stringMatching(/travel/) })
+		]);
+		expect(await refused(tool({ machineZ: '-14.70021' }))).toEqual([
+			expect.objectContaining({ field: 'machineZ', message: expect.stringMatching(/decimals/) })
+		]);
+		expect(await refused(tool({ blockHeight: '0.1' }))).toEqual([
+			expect.objectContaining({ field: 'blockHeight' })
+		]);
+		expect(await refused(tool({ touchedThrough: 'gauge block', blockHeight: '' }))).toEqual([
+			expect.objectContaining({ field: 'blockHeight' })
+		]);
+		expect(await refused(tool({ toolChanged: true }))).toEqual([
+			expect.objectContaining({ field: 'reason' })
+		]);
+		await expect(
+			inShop((trx, m) => recordToolReading(trx, m, 999_999, tool(), actor))
+		).rejects.toMatchObject({ issues: [expect.objectContaining({ field: 'tool' })] });
+		const noTool = partTopReadingSchema.parse({
+			machineZ: '-13.0296',
+			withToolId: String(tool2Id)
+		});
+		await expect(
+			inShop((trx, m) => recordPartTopReading(trx, m, fixtureId, noTool, actor))
+		).rejects.toMatchObject({
+			issues: [
+				expect.objectContaining({ field: 'withToolId', message: expect.stringMatching(/T3/) })
+			]
+		});
+		expect(await count('readings')).toBe(before);
+	});
+
+	it('writes the reading, its offset version and the audit entry together', async () => {
+		const saved = await inShop((trx, m) =>
+			recordToolReading(
+				trx,
+				m,
+				toolId,
+				tool({ toolChanged: true, reason: 'End mill broke; new one' }),
+				actor
+			)
+		);
+		const { reading, version, audit } = await inShop(async (trx) => ({
+			reading: await trx('readings').where({ id: saved.readingId }).first(),
+			version: await trx('offset_versions').where({ id: saved.offsetVersionId }).first(),
+			audit: await trx('audit_log')
+				.where({ action: 'reading.recorded' })
+				.orderBy('id', 'desc')
+				.first()
+		}));
+		expect(reading).toMatchObject({
+			kind: 'tool-remeasure',
+			tool_changed: true,
+			reference_version: 1
+		});
+		expect(Number(reading.machine_z)).toBe(-14.7002);
+		expect(version).toMatchObject({ register_kind: 'tool', register: '2', units: 'inch' });
+		expect(Number(version.value)).toBe(-14.7002);
+		expect(Number(version.reading_id)).toBe(saved.readingId);
+		expect(audit.detail).toMatchObject({ readingId: saved.readingId, register: 'H2' });
+	});
+
+	it('writes neither row when the offset version cannot be written', async () => {
+		const readings = await count('readings');
+		const versions = await count('offset_versions');
+		await withShop(
+			shop,
+			async (trx) => {
+				await trx.raw(`create or replace function dk_test_refuse() returns trigger language plpgsql as $$
+					begin raise exception 'offset version refused for the test'; end $$`);
+				await trx.raw(
+					'create trigger dk_test_refuse before insert on offset_versions for each row execute function dk_test_refuse()'
+				);
+			},
+			knex
+		);
+		try {
+			await expect(
+				inShop((trx, m) => recordToolReading(trx, m, toolId, tool({ machineZ: '-14.7004' }), actor))
+			).rejects.toThrow(/offset version refused/);
+		} finally {
+			await withShop(
+				shop,
+				async (trx) => {
+					await trx.raw('drop trigger dk_test_refuse on offset_versions');
+					await trx.raw('drop function dk_test_refuse()');
+				},
+				knex
+			);
+		}
+		expect(await count('readings')).toBe(readings);
+		expect(await count('offset_versions')).toBe(versions);
+		expect(
+			await inShop(async (trx) => trx('readings').where({ machine_z: -14.7004 }).first())
+		).toBeUndefined();
+	});
+
+	it('readings and offset versions refuse UPDATE and DELETE at the database', async () => {
+		await expect(inShop((trx) => trx('readings').update({ reason: 'edited' }))).rejects.toThrow(
+			/append-only/
+		);
+		await expect(inShop((trx) => trx('offset_versions').del())).rejects.toThrow(/append-only/);
+	});
+
+	it('corrections: same tool, a reason, once; the wrong value stops being the baseline', async () => {
+		const wrong = await inShop((trx, m) =>
+			recordToolReading(trx, m, toolId, tool({ machineZ: '-14.0702' }), actor)
+		);
+		// -14.0702 for -14.7002: the engine sees two neighbouring digits swapped.
+		expect(wrong.preview.findings.map((f) => f.kind)).toContain('transposed-digits');
+		const correction = (over: Partial<ReturnType<typeof tool>>, onTool = toolId) =>
+			inShop((trx, m) =>
+				recordToolReading(
+					trx,
+					m,
+					onTool,
+					tool({ correctsReadingId: String(wrong.readingId), ...over }),
+					actor
+				)
+			);
+		await expect(correction({ reason: '' })).rejects.toMatchObject({
+			issues: [expect.objectContaining({ field: 'reason' })]
+		});
+		await expect(correction({ reason: 'typo' }, tool2Id)).rejects.toMatchObject({
+			issues: [
+				expect.objectContaining({
+					field: 'correctsReadingId',
+					message: expect.stringMatching(/same tool/)
+				})
+			]
+		});
+		const fixed = await correction({ reason: 'Digits swapped when typing' });
+		// Compared with the value before the wrong one, not with the wrong one: no finding.
+		expect(fixed.preview.findings).toEqual([]);
+		await expect(correction({ reason: 'again' })).rejects.toMatchObject({
+			issues: [
+				expect.objectContaining({
+					field: 'correctsReadingId',
+					message: expect.stringMatching(/already corrected/)
+				})
+			]
+		});
+		const rows = await inShop((trx, m) => registerHistory(trx, m, 'tool', '2'));
+		const old = rows.find((r) => r.readingId === wrong.readingId)!;
+		expect(old.correctedByReadingId).toBe(fixed.readingId);
+		expect(rows.at(-1)).toMatchObject({ correctsReadingId: wrong.readingId, value: -14.7002 });
+		// The database refuses a correction without a reason even if the app did not.
+		await expect(
+			inShop((trx) =>
+				trx('readings').insert({
+					machine_id: machineId,
+					kind: 'tool-touch',
+					tool_id: toolId,
+					machine_z: -14.7,
+					reference_version: 1,
+					corrects_reading_id: wrong.readingId
+				})
+			)
+		).rejects.toThrow(/readings_correction_reason/);
+	});
+
+	it('re-establishing the reference makes every older offset stale-reference', async () => {
+		const staleKinds = async () =>
+			inShop(async (trx, m) =>
+				(await machineState(trx, m)).findings
+					.filter((f) => f.kind === 'stale-reference')
+					.map((f) => (f.subject.type === 'tool' ? `H${f.subject.h}` : f.subject.type))
+			);
+		expect(await staleKinds()).toEqual([]);
+		const ref = await inShop((trx, m) =>
+			recordReference(
+				trx,
+				m,
+				{
+					instrument: '1-2-3 block',
+					height: '3',
+					location: 'front left',
+					gaugeLineZ: '',
+					note: 'Block knocked and re-seated',
+					checkToolId: String(toolId),
+					machineZ: '-14.7012',
+					blockHeight: ''
+				},
+				actor
+			)
+		);
+		expect(ref.version).toBe(2);
+		expect(ref.preview.becomeStale.map((s) => s.label)).toEqual(['H2']);
+		expect(ref.preview.shift?.delta).toBe(-0.001);
+		expect(await staleKinds()).toEqual(['H2']);
+		// Re-measured against the new reference, it is current again.
+		await new Promise((r) => setTimeout(r, 20));
+		const again = await inShop((trx, m) =>
+			recordToolReading(trx, m, toolId, tool({ machineZ: '-14.7012' }), actor)
+		);
+		expect(again.preview.referenceVersion).toBe(2);
+		expect(await staleKinds()).toEqual([]);
+	});
+});
