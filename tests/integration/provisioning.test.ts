@@ -10,6 +10,7 @@ import { schemaExists, tablesIn, testDb, uniqueSuffix } from './db';
 const knex: Knex = testDb();
 afterAll(() => knex.destroy());
 
+/** Tables every shop schema has at least (later migrations add more). */
 const SHOP_TABLES = [
 	'audit_log',
 	'findings',
@@ -33,7 +34,9 @@ describe('shop schema provisioning (real PostgreSQL)', () => {
 		const shop = await provisionShop(knex, { name: 'Provision Test', slug });
 		expect(shop.schemaName).toBe(`shop_${shop.id}`);
 		expect(await schemaExists(knex, shop.schemaName)).toBe(true);
-		expect(await tablesIn(knex, shop.schemaName)).toEqual(SHOP_TABLES);
+		expect(await tablesIn(knex, shop.schemaName)).toEqual(expect.arrayContaining(SHOP_TABLES));
+		// …and nothing of the shop's lands in public.
+		expect(await tablesIn(knex, 'public')).not.toContain('machines');
 		const ran = await knex.withSchema(shop.schemaName).from('knex_migrations').pluck('name');
 		expect(ran.sort()).toEqual(migrationNames.shop());
 		const row = await knex('shops').where({ id: shop.id }).first();
@@ -134,6 +137,46 @@ describe('tenant-scoped queries', () => {
 		const inB = await withShop(b, (trx) => trx('machines').pluck('name'), knex);
 		expect(inA).toEqual(['Only in A']);
 		expect(inB).toEqual([]);
+	});
+
+	it("commits before passing on SvelteKit's redirect (a redirect after a write must not undo it)", async () => {
+		const { redirect, isRedirect } = await import('@sveltejs/kit');
+		const shop = await provisionShop(knex, {
+			name: 'Redirect',
+			slug: `redirect-${uniqueSuffix()}`
+		});
+		const thrown = await withShop(
+			shop,
+			async (trx) => {
+				await trx('machines').insert({
+					name: 'Kept',
+					units: 'mm',
+					z_travel: 500,
+					resolution: 0.001
+				});
+				redirect(303, '/somewhere');
+			},
+			knex
+		).catch((e) => e);
+		expect(isRedirect(thrown)).toBe(true);
+		expect(await withShop(shop, (trx) => trx('machines').pluck('name'), knex)).toEqual(['Kept']);
+		// Any other error still rolls back.
+		await expect(
+			withShop(
+				shop,
+				async (trx) => {
+					await trx('machines').insert({
+						name: 'Dropped',
+						units: 'mm',
+						z_travel: 500,
+						resolution: 0.001
+					});
+					throw new Error('boom');
+				},
+				knex
+			)
+		).rejects.toThrow('boom');
+		expect(await withShop(shop, (trx) => trx('machines').pluck('name'), knex)).toEqual(['Kept']);
 	});
 
 	it('refuses a schema name that is not a shop schema', async () => {

@@ -8,7 +8,7 @@ import { controlStyleSchema, conventionSchema, unitsSchema } from '$lib/offsets'
 export const INSTRUMENTS = ['1-2-3 block', 'gauge block', 'tool setter', 'other'] as const;
 
 const finite = (label: string) =>
-	z.coerce
+	z
 		.number({ message: `${label} must be a number.` })
 		.refine(Number.isFinite, `${label} must be a finite number.`);
 
@@ -60,13 +60,12 @@ const referenceShape = {
 	}),
 	height: finite('Height').refine((v) => v >= 0, 'Height cannot be negative.'),
 	location: z.string().trim().max(200, 'Location too long (200 characters at most).').default(''),
-	gaugeLineZ: z
-		.union([z.literal(''), finite('Gauge-line Z')])
-		.default('')
+	gaugeLineZ: finite('Gauge-line Z')
 		.refine(
-			(v) => v === '' || v < 0,
+			(v) => v < 0,
 			'Gauge-line Z is a machine coordinate below Z home, so it must be negative.'
-		),
+		)
+		.optional(),
 	note: z.string().trim().max(500, 'Note too long (500 characters at most).').default('')
 };
 

@@ -1,7 +1,9 @@
 import { z } from 'zod';
 
+// Plain number types (no unions or coercion) so superforms can read them from FormData; the CSV
+// reader turns its strings into numbers first (numberOrBlank).
 const whole = (label: string, max: number) =>
-	z.coerce
+	z
 		.number({ message: `${label} must be a number.` })
 		.refine(
 			(v) => Number.isInteger(v) && v >= 1 && v <= max,
@@ -10,13 +12,19 @@ const whole = (label: string, max: number) =>
 
 const optionalLength = (label: string, positive: boolean) =>
 	z
-		.union([z.literal(''), z.coerce.number({ message: `${label} must be a number.` })])
-		.default('')
-		.refine((v) => v === '' || Number.isFinite(v), `${label} must be a finite number.`)
+		.number({ message: `${label} must be a number.` })
+		.refine(Number.isFinite, `${label} must be a finite number.`)
 		.refine(
-			(v) => v === '' || (positive ? v > 0 : v >= 0),
+			(v) => (positive ? v > 0 : v >= 0),
 			`${label} must be ${positive ? 'greater than zero' : 'zero or more'}.`
-		);
+		)
+		.optional();
+
+/** A CSV cell for the schema: blank → undefined, text → Number (NaN fails with the field's message). */
+export function numberOrBlank(cell: string | undefined): number | undefined {
+	const t = (cell ?? '').trim();
+	return t === '' ? undefined : Number(t);
+}
 
 /** A tool in a machine's rack: T number, H number (its tool length offset register), what it is. */
 export const toolFormSchema = z.object({

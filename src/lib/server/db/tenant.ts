@@ -1,3 +1,4 @@
+import { isRedirect } from '@sveltejs/kit';
 import type { Knex } from 'knex';
 import { db } from './index';
 import { assertShopSchema } from './schema-name';
@@ -19,8 +20,21 @@ export async function withShop<T>(
 	conn: Knex = db()
 ): Promise<T> {
 	assertShopSchema(shop.schemaName);
-	return conn.transaction(async (trx) => {
+	// SvelteKit's redirect() is thrown; thrown inside the transaction it would roll back the work
+	// it is meant to follow. Catch it, commit, and throw it again afterwards.
+	let pending: unknown = undefined;
+	const result = await conn.transaction(async (trx) => {
 		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
-		return fn(trx);
+		try {
+			return await fn(trx);
+		} catch (e) {
+			if (isRedirect(e)) {
+				pending = e;
+				return undefined as T;
+			}
+			throw e;
+		}
 	});
+	if (pending !== undefined) throw pending;
+	return result;
 }

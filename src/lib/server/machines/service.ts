@@ -54,7 +54,7 @@ export async function createMachine(
 				instrument: input.instrument,
 				height: input.height,
 				location: input.location,
-				gauge_line_z: input.gaugeLineZ === '' ? null : input.gaugeLineZ,
+				gauge_line_z: input.gaugeLineZ ?? null,
 				established_by: by.id,
 				note: input.note
 			});

@@ -1,6 +1,6 @@
 import { parse } from 'csv-parse/sync';
 import { stringify } from 'csv-stringify/sync';
-import { toolFormSchema } from '$lib/schemas/tool';
+import { numberOrBlank, toolFormSchema } from '$lib/schemas/tool';
 
 /** Columns of the tool table CSV; the first three are required on import. */
 export const TOOL_CSV_COLUMNS = [
@@ -84,12 +84,12 @@ export function parseToolCsv(text: string, existingT: Set<number>): ToolCsvResul
 		rows: records.map((values, i) => {
 			const row = i + 2;
 			const parsed = toolFormSchema.safeParse({
-				t: values.t,
-				h: values.h,
+				t: numberOrBlank(values.t),
+				h: numberOrBlank(values.h),
 				description: values.description,
 				holder: values.holder ?? '',
-				stickout: values.stickout ?? '',
-				nominalLength: values.nominal_length ?? ''
+				stickout: numberOrBlank(values.stickout),
+				nominalLength: numberOrBlank(values.nominal_length)
 			});
 			const errors: ParsedToolRow['errors'] = [];
 			if (!parsed.success) {
@@ -123,8 +123,8 @@ export function parseToolCsv(text: string, existingT: Set<number>): ToolCsvResul
 					h: d.h,
 					description: d.description,
 					holder: d.holder,
-					stickout: d.stickout === '' ? null : d.stickout,
-					nominalLength: d.nominalLength === '' ? null : d.nominalLength
+					stickout: d.stickout ?? null,
+					nominalLength: d.nominalLength ?? null
 				}
 			};
 		})

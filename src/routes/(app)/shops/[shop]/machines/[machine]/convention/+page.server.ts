@@ -18,7 +18,7 @@ export const load: PageServerLoad = async (event) => {
 		const [reference] = await listReferences(trx, machine.id);
 		const target = machine.convention === 'reference-touch' ? 'gauge-length' : 'reference-touch';
 		const form = await superValidate(
-			{ target, referenceGaugeLineZ: reference?.gaugeLineZ ?? '' },
+			{ target, referenceGaugeLineZ: reference?.gaugeLineZ ?? undefined },
 			zod4(conversionFormSchema),
 			{ errors: false }
 		);
@@ -42,10 +42,10 @@ async function run(event: RequestEvent, save: boolean) {
 			return setError(form, 'target', 'The machine already records offsets this way.');
 		}
 		const geometry: ConversionGeometry = {};
-		if (form.data.referenceGaugeLineZ !== '')
+		if (form.data.referenceGaugeLineZ !== undefined)
 			geometry.referenceGaugeLineZ = form.data.referenceGaugeLineZ;
-		if (form.data.masterTouchZ !== '') geometry.masterTouchZ = form.data.masterTouchZ;
-		if (form.data.masterTool !== '') geometry.masterTool = String(form.data.masterTool);
+		if (form.data.masterTouchZ !== undefined) geometry.masterTouchZ = form.data.masterTouchZ;
+		if (form.data.masterTool !== undefined) geometry.masterTool = String(form.data.masterTool);
 		try {
 			const plan = save
 				? await convertMachine(trx, machine, form.data.target, geometry, user, clientAddress(event))

@@ -48,8 +48,8 @@ export const actions: Actions = {
 				machine.id,
 				{
 					...d,
-					stickout: d.stickout === '' ? null : d.stickout,
-					nominalLength: d.nominalLength === '' ? null : d.nominalLength
+					stickout: d.stickout ?? null,
+					nominalLength: d.nominalLength ?? null
 				},
 				user,
 				clientAddress(event)
