@@ -37,7 +37,9 @@ export default defineConfig({
 			...(process.env as Record<string, string>),
 			PORT: String(port),
 			HOST: '127.0.0.1',
-			ORIGIN: baseURL
+			ORIGIN: baseURL,
+			// Setup photos go up to 8 MB; adapter-node refuses bodies over 512 kB by default.
+			BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '12M'
 		}
 	}
 });
