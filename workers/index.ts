@@ -32,7 +32,7 @@ async function main() {
 		closing = true;
 		console.log(`datumkeep worker: ${signal}, finishing current jobs…`);
 		await Promise.allSettled(running.map((r) => r.close()));
-		const { closeDb } = await import('../src/lib/server/db/index');
+		const { closeDb } = await import('$lib/server/db');
 		await closeDb();
 		process.exit(0);
 	};
