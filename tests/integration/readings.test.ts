@@ -268,6 +268,23 @@ describe('reading flows (real PostgreSQL)', () => {
 				})
 			]
 		});
+		// An older reading is history: only the one behind the current value can be corrected.
+		const oldest = await inShop(async (trx) =>
+			trx('readings').where({ tool_id: toolId }).orderBy('id').first('id')
+		);
+		await expect(
+			inShop((trx, m) =>
+				recordToolReading(
+					trx,
+					m,
+					toolId,
+					tool({ correctsReadingId: String(oldest.id), reason: 'old typo' }),
+					actor
+				)
+			)
+		).rejects.toMatchObject({
+			issues: [expect.objectContaining({ message: expect.stringMatching(/not the newest/) })]
+		});
 		const rows = await inShop((trx, m) => registerHistory(trx, m, 'tool', '2'));
 		const old = rows.find((r) => r.readingId === wrong.readingId)!;
 		expect(old.correctedByReadingId).toBe(fixed.readingId);

@@ -8,10 +8,7 @@ import { ReadingInputError, type Actor } from './record';
  * A refused reading back onto its form: each issue on its own field (or on the whole form when
  * it names none of them), status 400, nothing written. `e` null: the form's own errors.
  */
-export function refuse<T extends Record<string, unknown>>(
-	form: SuperValidated<T>,
-	e: unknown
-) {
+export function refuse<T extends Record<string, unknown>>(form: SuperValidated<T>, e: unknown) {
 	if (e !== null && !(e instanceof ReadingInputError)) throw e;
 	for (const issue of e?.issues ?? []) {
 		if (issue.field in form.data) setError(form, issue.field as never, issue.message);

@@ -265,7 +265,26 @@ export async function checkCorrection(
 			message: `Reading #${id} measured something else; a correction must measure the same ${same.fixtureId !== undefined ? 'fixture' : 'tool'}.`
 		});
 	}
+	// Only the reading behind the current value: an older one is history, re-measure instead.
+	const newest = await trx('readings')
+		.where({ machine_id: machineId })
+		.modify((q) =>
+			same.fixtureId !== undefined
+				? q.where({ kind: 'part-top', fixture_id: same.fixtureId })
+				: q.where({ tool_id: same.toolId }).whereIn('kind', ['tool-touch', 'tool-remeasure'])
+		)
+		.orderBy([
+			{ column: 'taken_at', order: 'desc' },
+			{ column: 'id', order: 'desc' }
+		])
+		.first('id');
 	const later = await trx('readings').where({ corrects_reading_id: id }).first('id');
+	if (matches && !later && newest && Number(newest.id) !== id) {
+		issues.push({
+			field: 'correctsReadingId',
+			message: `Reading #${id} is not the newest of this ${same.fixtureId !== undefined ? 'fixture' : 'tool'} (that is #${newest.id}): only the reading behind the current value can be corrected. Take a new reading instead.`
+		});
+	}
 	if (later) {
 		issues.push({
 			field: 'correctsReadingId',
