@@ -68,6 +68,22 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	'/shops/[shop]/setups/[setup]/photos': { allowed: ALL },
 	'/shops/[shop]/setups/[setup]/load-program': { allowed: ALL },
 	'/shops/[shop]/machines/[machine]/load-program': { allowed: ALL },
+	// Readings: every role records them; re-establishing the reference is lead and up.
+	'/shops/[shop]/machines/[machine]/readings/tool/[tool]': {
+		allowed: ALL,
+		actions: ['preview', 'save']
+	},
+	'/shops/[shop]/machines/[machine]/readings/part-top/[fixture]': {
+		allowed: ALL,
+		actions: ['preview', 'save']
+	},
+	'/shops/[shop]/machines/[machine]/reference': {
+		allowed: ['owner', 'admin', 'lead'],
+		actions: ['preview', 'save']
+	},
+	'/shops/[shop]/machines/[machine]/history/[kind]/[register]': { allowed: ALL },
+	'/api/v1/shops/[shop]/machines/[machine]/offsets': { allowed: ALL },
+	'/api/v1/shops/[shop]/machines/[machine]/readings': { allowed: ALL },
 	'/api/v1/shops/[shop]/setups': { allowed: ALL },
 	'/api/v1/shops/[shop]/setups/[setup]': { allowed: ALL }
 };
@@ -80,7 +96,9 @@ const PARAMS: Record<string, string> = {
 	'[machine]': '1',
 	'[tool]': '2',
 	'[fixture]': '1',
-	'[setup]': '1'
+	'[setup]': '1',
+	'[kind]': 'tool',
+	'[register]': '2'
 };
 function fill(id: string, shop: string): string {
 	let path = id.replace('[shop]', shop);
