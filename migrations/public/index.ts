@@ -5,6 +5,8 @@ import * as m0003 from './20261202000300_create_email_log';
 import * as m0004 from './20261202020000_add_subscription_to_shops';
 import * as m0005 from './20261202020100_create_billing_events';
 import * as m0006 from './20261202020200_create_billing_invoices';
+import * as m0007 from './20261203070000_add_check_hour_to_shops';
+import * as m0008 from './20261203070100_add_digest_opt_out_to_memberships';
 
 /**
  * The public-schema migrations, in order. Listed by hand (not read from the folder) so the
@@ -17,5 +19,7 @@ export const publicMigrations: Record<string, Knex.Migration> = {
 	'20261202000300_create_email_log': m0003,
 	'20261202020000_add_subscription_to_shops': m0004,
 	'20261202020100_create_billing_events': m0005,
-	'20261202020200_create_billing_invoices': m0006
+	'20261202020200_create_billing_invoices': m0006,
+	'20261203070000_add_check_hour_to_shops': m0007,
+	'20261203070100_add_digest_opt_out_to_memberships': m0008
 };

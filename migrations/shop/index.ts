@@ -8,6 +8,8 @@ import * as m0006 from './20261202010600_create_audit_log';
 import * as m0007 from './20261202030000_change_setup_states';
 import * as m0008 from './20261202030100_create_setup_status_changes';
 import * as m0009 from './20261202030200_create_setup_photos';
+import * as m0010 from './20261203070000_add_fleet_board_indexes';
+import * as m0011 from './20261203070100_create_check_runs';
 
 /**
  * The migrations every shop schema gets, in order. Schema-agnostic: they run with the search
@@ -23,5 +25,7 @@ export const shopMigrations: Record<string, Knex.Migration> = {
 	'20261202010600_create_audit_log': m0006,
 	'20261202030000_change_setup_states': m0007,
 	'20261202030100_create_setup_status_changes': m0008,
-	'20261202030200_create_setup_photos': m0009
+	'20261202030200_create_setup_photos': m0009,
+	'20261203070000_add_fleet_board_indexes': m0010,
+	'20261203070100_create_check_runs': m0011
 };
