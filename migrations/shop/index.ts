@@ -10,6 +10,9 @@ import * as m0008 from './20261202030100_create_setup_status_changes';
 import * as m0009 from './20261202030200_create_setup_photos';
 import * as m0010 from './20261203070000_add_fleet_board_indexes';
 import * as m0011 from './20261203070100_create_check_runs';
+import * as m0012 from './20261202040000_create_programs';
+import * as m0013 from './20261202040100_create_program_versions';
+import * as m0014 from './20261202040200_create_program_checks';
 
 /**
  * The migrations every shop schema gets, in order. Schema-agnostic: they run with the search
@@ -27,5 +30,8 @@ export const shopMigrations: Record<string, Knex.Migration> = {
 	'20261202030100_create_setup_status_changes': m0008,
 	'20261202030200_create_setup_photos': m0009,
 	'20261203070000_add_fleet_board_indexes': m0010,
-	'20261203070100_create_check_runs': m0011
+	'20261203070100_create_check_runs': m0011,
+	'20261202040000_create_programs': m0012,
+	'20261202040100_create_program_versions': m0013,
+	'20261202040200_create_program_checks': m0014
 };
