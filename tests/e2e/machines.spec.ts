@@ -82,13 +82,11 @@ test('a CSV with one bad row shows that row, column and value, and imports only 
 test('a CSV missing a required column is refused with the column named', async ({ page }) => {
 	await signIn(page, FERNHILL.lead);
 	await page.goto('/shops/fernhill-precision/machines/1/tools');
-	await page
-		.getByLabel('CSV file', { exact: true })
-		.setInputFiles({
-			name: 'x.csv',
-			mimeType: 'text/csv',
-			buffer: Buffer.from('tool,length\n1,2\n')
-		});
+	await page.getByLabel('CSV file', { exact: true }).setInputFiles({
+		name: 'x.csv',
+		mimeType: 'text/csv',
+		buffer: Buffer.from('tool,length\n1,2\n')
+	});
 	await page.getByRole('button', { name: 'Check the file' }).click();
 	await expect(page.getByRole('alert')).toContainText('Missing columns: t, h, description.');
 });
