@@ -15,7 +15,7 @@ export interface Closable {
 type Starter = () => Promise<Closable | Closable[]>;
 
 const QUEUES: Record<string, () => Promise<{ start: Starter }>> = {
-	// 'shop-checks': () => import('./shop-checks/index'),
+	'shop-checks': () => import('./shop-checks/index'),
 };
 
 async function main() {

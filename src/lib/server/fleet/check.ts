@@ -1,0 +1,252 @@
+import type { Knex } from 'knex';
+import type { Finding } from '$lib/offsets';
+import { db } from '../db';
+import { withShop } from '../db/tenant';
+import { machineState, toMachineRecord } from '../offsets/machine-state';
+import type { ShopRow } from '../shops/queries';
+
+/**
+ * The background offset check of one shop (issue 7): the engine's `checkOffsets` (through
+ * machineState) over every active machine, stored as findings.
+ *
+ * Idempotent by construction:
+ * - a finding's row is named by `m<machine id>|<engine key>` (kind + subject), so the same
+ *   problem found again updates its row (last_seen_at, message) and keeps its status;
+ * - the instant the offsets are judged at (`checked_at`) is fixed by the job's first attempt
+ *   and kept in check_runs, so a retried job computes exactly the same findings and writes the
+ *   same values again;
+ * - a problem no longer found is resolved automatically (resolved_by null) — but only when it
+ *   was last seen before this check, so an older job retried late cannot undo a newer one;
+ * - a finding someone resolved by hand reopens only if a check after that still finds it.
+ * Each machine is its own transaction: a crash half-way leaves whole machines done, and the
+ * retry does them again to the same result.
+ */
+export interface CheckRun {
+	jobId: string;
+	trigger: 'nightly' | 'manual';
+	/** The instant to judge at on the first attempt (default now). */
+	now?: Date;
+	onProgress?: (done: number, total: number) => Promise<void> | void;
+}
+
+export interface CheckSummary {
+	checkedAt: string;
+	machines: number;
+	opened: number;
+	stillOpen: number;
+	resolved: number;
+}
+
+/** A finding's row key in the shop: machine first, since the engine's key is per machine. */
+export const findingRowKey = (machineId: number, f: Pick<Finding, 'key'>) =>
+	`m${machineId}|${f.key}`;
+
+export async function runShopCheck(
+	shop: ShopRow,
+	run: CheckRun,
+	knex: Knex = db()
+): Promise<CheckSummary> {
+	const { checkedAt, machines } = await withShop(
+		shop,
+		async (trx) => {
+			await trx('check_runs')
+				.insert({
+					job_id: run.jobId,
+					trigger: run.trigger,
+					checked_at: run.now ?? new Date()
+				})
+				.onConflict('job_id')
+				.ignore();
+			// A retry: the same row, running again, judged at the first attempt's instant.
+			const [row] = await trx('check_runs')
+				.where({ job_id: run.jobId })
+				.update({ status: 'running', error: '', finished_at: null })
+				.returning('checked_at');
+			const list = await trx('machines').whereNull('archived_at').orderBy('id');
+			return { checkedAt: new Date(row.checked_at), machines: list.map(toMachineRecord) };
+		},
+		knex
+	);
+
+	const summary: CheckSummary = {
+		checkedAt: checkedAt.toISOString(),
+		machines: machines.length,
+		opened: 0,
+		stillOpen: 0,
+		resolved: 0
+	};
+	const stamp = localStamp(checkedAt, shop.timeZone);
+	let done = 0;
+	for (const machine of machines) {
+		const r = await withShop(
+			shop,
+			async (trx) => {
+				const state = await machineState(trx, machine, checkedAt);
+				const names = new Map(state.checkInput.setups?.map((s) => [s.id, s.name]) ?? []);
+				return storeFindings(trx, machine.id, state.findings, checkedAt, stamp, names);
+			},
+			knex
+		);
+		summary.opened += r.opened;
+		summary.stillOpen += r.stillOpen;
+		summary.resolved += r.resolved;
+		done += 1;
+		await run.onProgress?.(done, machines.length);
+	}
+
+	await withShop(
+		shop,
+		(trx) =>
+			trx('check_runs').where({ job_id: run.jobId }).update({
+				status: 'done',
+				finished_at: trx.fn.now(),
+				machines: summary.machines,
+				opened: summary.opened,
+				still_open: summary.stillOpen,
+				resolved: summary.resolved
+			}),
+		knex
+	);
+	return summary;
+}
+
+/** Marks the run failed (the job will be retried or has given up). */
+export async function markCheckFailed(
+	shop: ShopRow,
+	jobId: string,
+	message: string,
+	knex: Knex = db()
+): Promise<void> {
+	await withShop(
+		shop,
+		(trx) =>
+			trx('check_runs')
+				.where({ job_id: jobId })
+				.update({ status: 'failed', error: message.slice(0, 500), finished_at: trx.fn.now() }),
+		knex
+	);
+}
+
+/** What a finding is about, as a machinist reads it: "H3", "G54", "Setup Aluminium bracket · G54". */
+export function subjectLabel(f: Finding, setupNames: Map<string, string> = new Map()): string {
+	const s = f.subject;
+	switch (s.type) {
+		case 'machine':
+			return 'Whole machine';
+		case 'fixture':
+			return s.register;
+		case 'tool':
+			return `H${s.h}`;
+		case 'setup':
+			return [
+				`Setup ${(s.id && setupNames.get(s.id)) ?? s.id ?? ''}`.trim(),
+				s.register,
+				s.h ? `H${s.h}` : undefined
+			]
+				.filter(Boolean)
+				.join(' · ');
+		case 'program-line':
+			return `Line ${s.line}`;
+	}
+}
+
+async function storeFindings(
+	trx: Knex.Transaction,
+	machineId: number,
+	findings: Finding[],
+	checkedAt: Date,
+	stamp: string,
+	setupNames: Map<string, string>
+): Promise<{ opened: number; stillOpen: number; resolved: number }> {
+	// The engine may name one problem twice (e.g. two setups sharing a pair): one row per key.
+	const unique = [...new Map(findings.map((f) => [findingRowKey(machineId, f), f])).entries()];
+	let opened = 0;
+	let stillOpen = 0;
+	if (unique.length > 0) {
+		const { rows } = await trx.raw(
+			`insert into findings as f (key, machine_id, kind, severity, subject_type, subject, message,
+				status, first_seen_at, last_seen_at)
+			select x.key, :machineId, x.kind, x.severity, x.subject_type, x.subject, x.message,
+				'open', :at, :at
+			from jsonb_to_recordset(cast(:rows as jsonb)) as x(key text, kind text, severity text,
+				subject_type text, subject text, message text)
+			on conflict (key) do update set
+				severity = excluded.severity,
+				subject = excluded.subject,
+				message = excluded.message,
+				last_seen_at = greatest(f.last_seen_at, excluded.last_seen_at),
+				-- Reopen only what was resolved before this check looked.
+				status = case when f.status = 'resolved' and f.resolved_at < excluded.last_seen_at
+					then 'open' else f.status end,
+				first_seen_at = case when f.status = 'resolved' and f.resolved_at < excluded.last_seen_at
+					then excluded.first_seen_at else f.first_seen_at end,
+				acknowledged_by = case when f.status = 'resolved' and f.resolved_at < excluded.last_seen_at
+					then null else f.acknowledged_by end,
+				acknowledged_at = case when f.status = 'resolved' and f.resolved_at < excluded.last_seen_at
+					then null else f.acknowledged_at end,
+				comment = case when f.status = 'resolved' and f.resolved_at < excluded.last_seen_at
+					then '' else f.comment end,
+				resolved_by = case when f.status = 'resolved' and f.resolved_at < excluded.last_seen_at
+					then null else f.resolved_by end,
+				resolved_at = case when f.status = 'resolved' and f.resolved_at < excluded.last_seen_at
+					then null else f.resolved_at end
+			returning f.first_seen_at = :at as is_new`,
+			{
+				machineId,
+				at: checkedAt.toISOString(),
+				rows: JSON.stringify(
+					unique.map(([key, f]) => ({
+						key,
+						kind: f.kind,
+						severity: f.severity,
+						subject_type: f.subject.type,
+						subject: subjectLabel(f, setupNames),
+						message: f.message
+					}))
+				)
+			}
+		);
+		for (const r of rows) {
+			if (r.is_new) opened += 1;
+			else stillOpen += 1;
+		}
+	}
+	const found = unique.map(([key]) => key);
+	const resolved = await trx('findings')
+		.where({ machine_id: machineId })
+		.whereNot('status', 'resolved')
+		.where('last_seen_at', '<', checkedAt)
+		.modify((q) => {
+			if (found.length > 0) q.whereNotIn('key', found);
+		})
+		.update({
+			status: 'resolved',
+			resolved_by: null,
+			resolved_at: checkedAt,
+			comment: `no longer found by the check at ${stamp}`
+		});
+	return { opened, stillOpen, resolved };
+}
+
+/** "3 Dec 2026, 02:00 America/Chicago" — the check's instant in the shop's own time zone. */
+export function localStamp(at: Date, timeZone: string): string {
+	const text = at.toLocaleString('en-GB', {
+		timeZone,
+		day: 'numeric',
+		month: 'short',
+		year: 'numeric',
+		hour: '2-digit',
+		minute: '2-digit'
+	});
+	return `${text} ${timeZone}`;
+}
+
+/** YYYY-MM-DD of an instant in the shop's time zone (the digest's "day"). */
+export function localDate(at: Date, timeZone: string): string {
+	return new Intl.DateTimeFormat('en-CA', {
+		timeZone,
+		year: 'numeric',
+		month: '2-digit',
+		day: '2-digit'
+	}).format(at);
+}

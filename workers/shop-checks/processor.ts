@@ -1,0 +1,61 @@
+import type { Job } from 'bullmq';
+import type { Knex } from 'knex';
+import { db } from '$lib/server/db';
+import { markCheckFailed, runShopCheck, type CheckSummary } from '$lib/server/fleet/check';
+import { sendDigests, type DigestResult } from '$lib/server/fleet/digest';
+import type { ShopCheckData, ShopCheckName } from '$lib/server/queues/shop-checks';
+import type { ShopRow } from '$lib/server/shops/queries';
+
+export interface ShopCheckResult extends CheckSummary {
+	shopId: number;
+	digest: DigestResult | null;
+}
+
+async function loadShop(knex: Knex, shopId: number) {
+	const s = await knex('public.shops')
+		.where({ id: shopId })
+		.first('id', 'slug', 'name', 'schema_name', 'time_zone');
+	if (!s || !s.schema_name) return undefined;
+	const shop: ShopRow = {
+		id: Number(s.id),
+		slug: s.slug,
+		name: s.name,
+		schemaName: s.schema_name,
+		timeZone: s.time_zone
+	};
+	return shop;
+}
+
+/**
+ * One job of the shop-checks queue: check every machine of the shop, then (nightly only) the
+ * digest. Safe to run again for the same job — the check is idempotent and the digest is at
+ * most one per member per day (see runShopCheck and sendDigests). Throws to let BullMQ retry.
+ */
+export async function processShopCheck(
+	job: Pick<Job<ShopCheckData, unknown, ShopCheckName>, 'id' | 'name' | 'data' | 'timestamp'> & {
+		updateProgress?: Job['updateProgress'];
+	},
+	knex: Knex = db()
+): Promise<ShopCheckResult | { skipped: string }> {
+	const shop = await loadShop(knex, Number(job.data.shopId));
+	if (!shop) return { skipped: 'no such shop' };
+	const jobId = String(job.id);
+	const trigger = job.name === 'nightly' ? 'nightly' : 'manual';
+	try {
+		const summary = await runShopCheck(
+			shop,
+			{
+				jobId,
+				trigger,
+				onProgress: (done, total) => job.updateProgress?.({ done, total })
+			},
+			knex
+		);
+		const digest =
+			trigger === 'nightly' ? await sendDigests(shop, new Date(summary.checkedAt), knex) : null;
+		return { shopId: shop.id, ...summary, digest };
+	} catch (e) {
+		await markCheckFailed(shop, jobId, (e as Error).message, knex).catch(() => {});
+		throw e;
+	}
+}
