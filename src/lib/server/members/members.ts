@@ -32,6 +32,22 @@ export async function listMembers(knex: Knex, shopId: number): Promise<MemberVie
 export type MemberChangeResult = { ok: true } | { ok: false; message: string };
 
 /**
+ * Locks the shop's owner memberships (so two demotions or removals cannot both see "another
+ * owner is left") and reads the member being changed.
+ */
+async function lockOwnersAndFind(trx: Knex.Transaction, shop: ShopRef, membershipId: number) {
+	const owners = await trx('public.memberships')
+		.where({ shop_id: shop.id, role: 'owner' })
+		.forUpdate()
+		.select('id');
+	const target: { role: Role; email: string } | undefined = await trx('public.memberships as m')
+		.join('public.users as u', 'u.id', 'm.user_id')
+		.where({ 'm.id': membershipId, 'm.shop_id': shop.id })
+		.first('m.role', 'u.email');
+	return { ownerCount: owners.length, target };
+}
+
+/**
  * Changes a member's role. Rules: only an owner may make someone an owner or change an owner's
  * role (ownership is the owner's to give), and the shop always keeps at least one owner. The
  * owner count is read under a row lock so two demotions cannot both pass.
@@ -45,20 +61,13 @@ export async function changeRole(
 	ip = ''
 ): Promise<MemberChangeResult> {
 	return knex.transaction(async (trx) => {
-		const owners = await trx('public.memberships')
-			.where({ shop_id: shop.id, role: 'owner' })
-			.forUpdate()
-			.select('id');
-		const target = await trx('public.memberships as m')
-			.join('public.users as u', 'u.id', 'm.user_id')
-			.where({ 'm.id': membershipId, 'm.shop_id': shop.id })
-			.first('m.role', 'u.email');
+		const { ownerCount, target } = await lockOwnersAndFind(trx, shop, membershipId);
 		if (!target) return { ok: false, message: 'That person is not a member of this shop.' };
 		if (target.role === newRole) return { ok: true };
 		if ((newRole === 'owner' || target.role === 'owner') && by.role !== 'owner') {
 			return { ok: false, message: 'Only an owner can give or take away the owner role.' };
 		}
-		if (target.role === 'owner' && owners.length <= 1) {
+		if (target.role === 'owner' && ownerCount <= 1) {
 			return {
 				ok: false,
 				message: `${target.email} is the last owner. Make someone else an owner first.`
@@ -87,19 +96,12 @@ export async function removeMember(
 	ip = ''
 ): Promise<MemberChangeResult> {
 	return knex.transaction(async (trx) => {
-		const owners = await trx('public.memberships')
-			.where({ shop_id: shop.id, role: 'owner' })
-			.forUpdate()
-			.select('id');
-		const target = await trx('public.memberships as m')
-			.join('public.users as u', 'u.id', 'm.user_id')
-			.where({ 'm.id': membershipId, 'm.shop_id': shop.id })
-			.first('m.role', 'u.email');
+		const { ownerCount, target } = await lockOwnersAndFind(trx, shop, membershipId);
 		if (!target) return { ok: false, message: 'That person is not a member of this shop.' };
 		if (target.role === 'owner' && by.role !== 'owner') {
 			return { ok: false, message: 'Only an owner can remove an owner.' };
 		}
-		if (target.role === 'owner' && owners.length <= 1) {
+		if (target.role === 'owner' && ownerCount <= 1) {
 			return { ok: false, message: `${target.email} is the last owner and cannot be removed.` };
 		}
 		await trx('public.memberships').where({ id: membershipId }).del();
