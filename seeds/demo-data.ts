@@ -60,6 +60,8 @@ export interface DemoMachine {
 		fixtures: { register: string; obstacle: number }[];
 		tools: number[];
 		ops: { name: string; register: string }[];
+		/** G-code programs uploaded to the setup and checked against it (program check). */
+		programs?: { name: string; fileName: string; lines: string[] }[];
 	}[];
 }
 
@@ -179,6 +181,35 @@ export const demoShops: DemoShop[] = [
 						ops: [
 							{ name: 'Op A — face, pocket, drill', register: 'G54' },
 							{ name: 'Op B — back face and tap', register: 'G55' }
+						],
+						programs: [
+							{
+								name: 'O4471 face both ops',
+								fileName: 'O4471.nc',
+								// Clean: retracts to Z 1.0 in G54 (tip 3.8125 in above the reference, over the
+								// 3.625 in clearance height) before moving over to G55.
+								lines: [
+									'%',
+									'O4471 (PUMP HOUSING PH-220 - FACE OPS A AND B)',
+									'G20 G17 G40 G80 G90',
+									'T1 M6 (3.0 FACE MILL)',
+									'G54 G0 X-2. Y1.',
+									'G43 H1 Z1.',
+									'Z0.1',
+									'G1 Z0. F40.',
+									'X6. F60.',
+									'G0 Z1.',
+									'G55 X-2. Y1.',
+									'Z3.',
+									'Z0.1',
+									'G1 Z0. F40.',
+									'X6. F60.',
+									'G0 Z3.',
+									'G91 G28 Z0.',
+									'M30',
+									'%'
+								]
+							}
 						]
 					}
 				]

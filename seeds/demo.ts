@@ -1,6 +1,8 @@
 import bcrypt from 'bcryptjs';
 import type { Knex } from 'knex';
+import { seedProgram } from '$lib/server/programs/store';
 import { provisionShop } from '$lib/server/shops/provision';
+import { getSetupDetail } from '$lib/server/setups/queries';
 import { demoShops, DEMO_PASSWORD, type DemoMachine } from './demo-data';
 
 const DAY = 86_400_000;
@@ -240,5 +242,10 @@ async function seedMachine(
 				fixture_id: fixtureIds.get(op.register)
 			}))
 		);
+		for (const p of s.programs ?? []) {
+			const detail = await getSetupDetail(trx, Number(setup.id));
+			const program = { name: p.name, fileName: p.fileName, text: p.lines.join('\n') + '\n' };
+			await seedProgram(trx, detail!, program, { id: ctx.lead, email: '' }, ctx.ago(0));
+		}
 	}
 }

@@ -1,0 +1,52 @@
+import { Queue } from 'bullmq';
+import { producerConnection, QUEUE_PREFIX } from '../queues/connection';
+import type { ProgramCheckJob } from './run';
+
+/** The BullMQ queue of large program checks (worker: workers/program-check/). */
+export const PROGRAM_CHECK_QUEUE = 'program-check';
+/** How long the upload waits for Redis before telling the user the queue is out of reach. */
+const ENQUEUE_TIMEOUT_MS = 3_000;
+
+let queue: Queue<ProgramCheckJob> | undefined;
+
+function programQueue(): Queue<ProgramCheckJob> {
+	queue ??= new Queue<ProgramCheckJob>(PROGRAM_CHECK_QUEUE, {
+		connection: producerConnection(),
+		prefix: QUEUE_PREFIX
+	});
+	return queue;
+}
+
+/** Job options: retried with backoff, finished jobs removed (BullMQ guidance). */
+export const PROGRAM_CHECK_JOB_OPTIONS = {
+	attempts: 3,
+	backoff: { type: 'exponential', delay: 2_000 },
+	removeOnComplete: 100,
+	removeOnFail: 500
+} as const;
+
+/**
+ * Puts a stored, queued check on the queue (after its transaction committed, so the worker
+ * finds the row). Answers false when Redis cannot be reached in time: the check stays queued
+ * and the page offers to run it in the request instead.
+ */
+export async function enqueueProgramCheck(job: ProgramCheckJob): Promise<boolean> {
+	let timer: ReturnType<typeof setTimeout> | undefined;
+	try {
+		await Promise.race([
+			programQueue().add('check', job, {
+				...PROGRAM_CHECK_JOB_OPTIONS,
+				jobId: `shop${job.shopId}-check${job.checkId}`
+			}),
+			new Promise((_, reject) => {
+				timer = setTimeout(() => reject(new Error('timeout')), ENQUEUE_TIMEOUT_MS);
+			})
+		]);
+		return true;
+	} catch (e) {
+		console.warn(`program check ${job.checkId}: could not queue (${(e as Error).message})`);
+		return false;
+	} finally {
+		clearTimeout(timer);
+	}
+}

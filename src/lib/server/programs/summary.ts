@@ -1,0 +1,119 @@
+import type { Finding, ProgramCheckResult, RegisterState } from '$lib/offsets';
+import type { CheckInput } from './input';
+
+/** How fresh a register's value is, as the badges say it. */
+export type Freshness = 'ok' | 'stale' | 'unset' | 'unknown';
+
+export interface WorkOffsetRow {
+	register: string;
+	value: number | null;
+	measuredAt: string | null;
+	freshness: Freshness;
+	/** Lowest safe retract Z in this fixture's coordinates; null when not a fixture of the setup. */
+	clearance: number | null;
+	states: RegisterState[];
+}
+
+export interface ToolRow {
+	t: string;
+	h: string;
+	description: string;
+	value: number | null;
+	measuredAt: string | null;
+	freshness: Freshness;
+	states: RegisterState[];
+	/** Lowest and highest tip height above the reference over the program's moves. */
+	tipZ: { min: number; max: number } | null;
+}
+
+/** The result page's and the report's summary of a check, from what the check stored. */
+export interface CheckSummary {
+	units: { machine: 'inch' | 'mm'; program: 'inch' | 'mm' | 'mixed' | null };
+	resolution: number;
+	lines: number;
+	moves: number;
+	work: WorkOffsetRow[];
+	tools: ToolRow[];
+	clearanceHeight: number;
+	clearancePlanes: Record<string, number>;
+	stops: number;
+	cautions: number;
+	suppressed: number;
+}
+
+const list = (s: RegisterState | RegisterState[] | undefined): RegisterState[] =>
+	s === undefined ? [] : Array.isArray(s) ? s : [s];
+
+function freshness(value: number | null, states: RegisterState[]): Freshness {
+	if (states.includes('unset') || value === null) return 'unset';
+	if (states.length > 0) return 'stale';
+	return 'ok';
+}
+
+export function summarize(input: CheckInput, result: ProgramCheckResult): CheckSummary {
+	const ps = input.programSetup;
+	const stats = result.stats;
+	const table = ps.table;
+	const status = ps.registerStatus ?? {};
+	const work = stats.workOffsets.map((register) => {
+		const value = table.work[register] ?? null;
+		const states = list(status.work?.[register]);
+		return {
+			register,
+			value,
+			measuredAt: input.measuredAt.work[register] ?? null,
+			freshness: freshness(value, states),
+			clearance: stats.clearancePlanes[register] ?? null,
+			states
+		};
+	});
+	const hFor = (t: string) => ps.toolRegisters?.[t] ?? t;
+	const tools = stats.tools.map((t) => {
+		const h = hFor(t);
+		const value = table.tools[h] ?? null;
+		const states = list(status.tools?.[h]);
+		return {
+			t,
+			h,
+			description: input.toolNames[t] ?? '',
+			value,
+			measuredAt: input.measuredAt.tools[h] ?? null,
+			freshness: freshness(value, states),
+			states,
+			tipZ: stats.tipZRange[t] ?? null
+		};
+	});
+	const stops = result.findings.filter((f) => f.severity === 'stop').length;
+	return {
+		units: stats.units,
+		resolution: ps.machine.resolution ?? (ps.machine.units === 'inch' ? 0.0001 : 0.001),
+		lines: stats.lines,
+		moves: stats.moves,
+		work,
+		tools,
+		clearanceHeight: stats.clearanceHeight,
+		clearancePlanes: stats.clearancePlanes,
+		stops,
+		cautions: result.findings.length - stops,
+		suppressed: stats.suppressed
+	};
+}
+
+/** The program line a finding is about (every program finding has one). */
+export function findingLine(f: Finding): number | null {
+	return f.subject.type === 'program-line' ? f.subject.line : null;
+}
+
+/** Short words for the kinds, for lists and the report (the engine's codes stay beside them). */
+export const KIND_LABEL: Record<string, string> = {
+	'low-traverse': 'Low rapid',
+	'no-length-comp': 'No length offset',
+	'units-mismatch': 'Units',
+	'unknown-work-offset': 'Unknown work offset',
+	'unknown-tool-offset': 'Unknown tool offset',
+	overtravel: 'Over travel',
+	'parse-error': 'Unreadable line',
+	'stale-age': 'Old offset',
+	'stale-reference': 'Offset before reference',
+	unset: 'Offset not measured'
+};
