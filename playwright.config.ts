@@ -38,8 +38,9 @@ export default defineConfig({
 			PORT: String(port),
 			HOST: '127.0.0.1',
 			ORIGIN: baseURL,
-			// Setup photos go up to 8 MB; adapter-node refuses bodies over 512 kB by default.
-			BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '12M'
+			// Setup photos go up to 8 MB, programs up to 20 MB; adapter-node refuses bodies over
+			// 512 kB by default.
+			BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '24M'
 		}
 	}
 });

@@ -67,6 +67,17 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	'/shops/[shop]/setups/[setup]/sheet': { allowed: ALL },
 	'/shops/[shop]/setups/[setup]/photos': { allowed: ALL },
 	'/shops/[shop]/setups/[setup]/load-program': { allowed: ALL },
+	// Program checks: every role uploads and reads them (DESIGN.md §6).
+	'/shops/[shop]/setups/[setup]/programs': { allowed: ALL, actions: ['upload'] },
+	'/shops/[shop]/setups/[setup]/programs/[program]': {
+		allowed: ALL,
+		actions: ['upload', 'runNow']
+	},
+	'/shops/[shop]/setups/[setup]/programs/[program]/text': { allowed: ALL },
+	'/shops/[shop]/setups/[setup]/programs/[program]/report': { allowed: ALL },
+	'/api/v1/shops/[shop]/setups/[setup]/programs': { allowed: ALL },
+	'/api/v1/shops/[shop]/setups/[setup]/programs/[program]': { allowed: ALL },
+	'/api/v1/shops/[shop]/setups/[setup]/programs/[program]/checks/[check]': { allowed: ALL },
 	'/shops/[shop]/machines/[machine]/load-program': { allowed: ALL },
 	// Readings: every role records them; re-establishing the reference is lead and up.
 	'/shops/[shop]/machines/[machine]/readings/tool/[tool]': {
@@ -97,6 +108,9 @@ const PARAMS: Record<string, string> = {
 	'[tool]': '2',
 	'[fixture]': '1',
 	'[setup]': '1',
+	// The demo seed's program on the pump-housing setup, and its check.
+	'[program]': '1',
+	'[check]': '1',
 	'[kind]': 'tool',
 	'[register]': '2'
 };
