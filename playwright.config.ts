@@ -28,19 +28,28 @@ export default defineConfig({
 			]
 		}
 	},
-	webServer: {
-		command: 'node build',
-		url: `${baseURL}/healthz`,
-		reuseExistingServer: !process.env.CI,
-		timeout: 60_000,
-		env: {
-			...(process.env as Record<string, string>),
-			PORT: String(port),
-			HOST: '127.0.0.1',
-			ORIGIN: baseURL,
-			// Setup photos go up to 8 MB, programs up to 20 MB; adapter-node refuses bodies over
-			// 512 kB by default.
-			BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '24M'
+	webServer: [
+		{
+			command: 'node build',
+			url: `${baseURL}/healthz`,
+			reuseExistingServer: !process.env.CI,
+			timeout: 60_000,
+			env: {
+				...(process.env as Record<string, string>),
+				PORT: String(port),
+				HOST: '127.0.0.1',
+				ORIGIN: baseURL,
+				// Setup photos go up to 8 MB, programs up to 20 MB; adapter-node refuses bodies over
+				// 512 kB by default.
+				BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '24M'
+			}
+		},
+		// The background worker (shop-checks queue: "Check now" on the fleet board), same env.
+		{
+			command: 'node_modules/.bin/tsx workers/index.ts',
+			wait: { stdout: /shop-checks ready/ },
+			timeout: 60_000,
+			env: { ...(process.env as Record<string, string>), SHOP_CHECKS_BACKOFF_MS: '1000' }
 		}
-	}
+	]
 });

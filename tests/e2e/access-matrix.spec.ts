@@ -96,7 +96,20 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	'/api/v1/shops/[shop]/machines/[machine]/offsets': { allowed: ALL },
 	'/api/v1/shops/[shop]/machines/[machine]/readings': { allowed: ALL },
 	'/api/v1/shops/[shop]/setups': { allowed: ALL },
-	'/api/v1/shops/[shop]/setups/[setup]': { allowed: ALL }
+	'/api/v1/shops/[shop]/setups/[setup]': { allowed: ALL },
+	// Fleet board and findings: everyone reads; checking, scheduling and acting are lead and up.
+	'/shops/[shop]/fleet': {
+		allowed: ALL,
+		actions: ['checkNow', 'schedule'],
+		actionsAllowed: ['owner', 'admin', 'lead']
+	},
+	'/shops/[shop]/findings': {
+		allowed: ALL,
+		actions: ['acknowledge', 'resolve', 'digest'],
+		actionsAllowed: ['owner', 'admin', 'lead']
+	},
+	'/api/v1/shops/[shop]/fleet': { allowed: ALL },
+	'/api/v1/shops/[shop]/checks': { allowed: ALL }
 };
 
 /**

@@ -242,7 +242,7 @@ describe('shop checks (real PostgreSQL, Redis and fake SES)', () => {
 		});
 		const send = vi.spyOn(ses(), 'send');
 		send.mockRejectedValueOnce(new Error('SES is having a bad day') as never);
-		const worker = new Worker<ShopCheckData, unknown, ShopCheckName>(
+		const worker = new Worker<ShopCheckData, unknown, string>(
 			SHOP_CHECKS,
 			(j) => processShopCheck(j, knex),
 			{ connection: workerConnection(), prefix: QUEUE_PREFIX }

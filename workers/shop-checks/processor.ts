@@ -3,7 +3,7 @@ import type { Knex } from 'knex';
 import { db } from '$lib/server/db';
 import { markCheckFailed, runShopCheck, type CheckSummary } from '$lib/server/fleet/check';
 import { sendDigests, type DigestResult } from '$lib/server/fleet/digest';
-import type { ShopCheckData, ShopCheckName } from '$lib/server/queues/shop-checks';
+import type { ShopCheckData } from '$lib/server/queues/shop-checks';
 import type { ShopRow } from '$lib/server/shops/queries';
 
 export interface ShopCheckResult extends CheckSummary {
@@ -32,7 +32,7 @@ async function loadShop(knex: Knex, shopId: number) {
  * most one per member per day (see runShopCheck and sendDigests). Throws to let BullMQ retry.
  */
 export async function processShopCheck(
-	job: Pick<Job<ShopCheckData, unknown, ShopCheckName>, 'id' | 'name' | 'data' | 'timestamp'> & {
+	job: Pick<Job<ShopCheckData, unknown, string>, 'id' | 'name' | 'data' | 'timestamp'> & {
 		updateProgress?: Job['updateProgress'];
 	},
 	knex: Knex = db()

@@ -82,7 +82,8 @@ export async function runShopCheck(
 			shop,
 			async (trx) => {
 				const state = await machineState(trx, machine, checkedAt);
-				const names = new Map(state.checkInput.setups?.map((s) => [s.id, s.name]) ?? []);
+				const names = new Map<string, string>();
+				for (const s of state.checkInput.setups ?? []) if (s.id && s.name) names.set(s.id, s.name);
 				return storeFindings(trx, machine.id, state.findings, checkedAt, stamp, names);
 			},
 			knex

@@ -31,8 +31,8 @@ export function jobOptions(
 export const schedulerId = (shopId: number) => `nightly-${shopId}`;
 export const cronFor = (hour: number) => `0 ${hour} * * *`;
 
-export function shopChecksQueue(connection: Redis): Queue<ShopCheckData, unknown, ShopCheckName> {
-	return new Queue<ShopCheckData, unknown, ShopCheckName>(SHOP_CHECKS, {
+export function shopChecksQueue(connection: Redis): Queue<ShopCheckData, unknown, string> {
+	return new Queue<ShopCheckData, unknown, string>(SHOP_CHECKS, {
 		connection,
 		prefix: QUEUE_PREFIX
 	});
@@ -40,7 +40,7 @@ export function shopChecksQueue(connection: Redis): Queue<ShopCheckData, unknown
 
 /** Registers (or moves) a shop's nightly check: `hour`:00 every day in `timeZone`. */
 export async function scheduleShop(
-	queue: Queue<ShopCheckData, unknown, ShopCheckName>,
+	queue: Queue<ShopCheckData, unknown, string>,
 	shop: { id: number; checkHour: number; timeZone: string }
 ): Promise<void> {
 	await queue.upsertJobScheduler(
@@ -56,7 +56,7 @@ export async function scheduleShop(
  * the app could not reach Redis when it changed.
  */
 export async function syncSchedules(
-	queue: Queue<ShopCheckData, unknown, ShopCheckName>,
+	queue: Queue<ShopCheckData, unknown, string>,
 	knex: Knex
 ): Promise<number> {
 	const shops = await knex('public.shops')
@@ -76,13 +76,13 @@ export async function syncSchedules(
 	return shops.length;
 }
 
-let producer: Queue<ShopCheckData, unknown, ShopCheckName> | undefined;
+let producer: Queue<ShopCheckData, unknown, string> | undefined;
 
 /**
  * The app's producer: fails fast when Redis is down (no offline queue), so "Check now" can say
  * checks are paused instead of hanging the request.
  */
-export function appQueue(): Queue<ShopCheckData, unknown, ShopCheckName> {
+export function appQueue(): Queue<ShopCheckData, unknown, string> {
 	if (!producer) {
 		const connection = producerConnection();
 		// Outages are reported to the user by the action; ioredis would otherwise log each retry.

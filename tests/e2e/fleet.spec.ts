@@ -1,0 +1,97 @@
+import { expect, test, type Page } from '@playwright/test';
+import { DEMO_PASSWORD, FERNHILL, signedInClient } from './helpers';
+
+/** Kept as test artifacts, and looked at: `.data/test/screenshots/`. */
+const shots = '.data/test/screenshots';
+const board = `/shops/${FERNHILL.slug}/fleet`;
+const findings = `/shops/${FERNHILL.slug}/findings`;
+
+async function signIn(page: Page, email: string) {
+	await page.goto('/signin');
+	await page.getByLabel('E-mail').fill(email);
+	await page.getByLabel('Password').fill(DEMO_PASSWORD);
+	await page.getByRole('button', { name: 'Sign in' }).click();
+	await expect(page).toHaveURL(/\/shops\/fernhill-precision$/);
+}
+
+test('a lead sees Mill 2 stale, checks now, acknowledges a finding and the board follows without a reload', async ({
+	page,
+	context
+}) => {
+	test.setTimeout(90_000);
+	await signIn(page, FERNHILL.lead);
+	await page.getByRole('link', { name: 'Fleet board' }).click();
+	await expect(page).toHaveURL(board);
+
+	// Mill 2's block was re-set 3 days ago; its G54 and H1 were measured before that.
+	const mill2 = page.locator('[data-testid="fleet-row"][data-machine="Mill 2"]');
+	await expect(mill2).toHaveAttribute('data-health', 'stale');
+	const badge = mill2.locator('[data-status="stale"]');
+	await expect(badge).toHaveText('Stale');
+	await expect(badge.locator('svg')).toHaveCount(1);
+	await expect(mill2).toContainText('measured before the reference was re-set');
+	await page.screenshot({ path: `${shots}/fleet-board-lead.png`, fullPage: true });
+
+	// Check now: queued, run by the worker, then the result.
+	await page.getByRole('button', { name: 'Check now' }).click();
+	await expect(page.getByTestId('check-progress')).toContainText('Check finished', {
+		timeout: 30_000
+	});
+	await expect(page.getByTestId('check-progress')).toContainText('machines checked');
+	await expect(page.getByTestId('last-check')).toContainText('on request');
+	await page.screenshot({ path: `${shots}/fleet-board-checked.png`, fullPage: true });
+	const ackCell = mill2.locator('td').nth(5);
+	const acknowledgedBefore = Number(await ackCell.innerText());
+
+	// A second tab keeps the board open while the lead acts in the first.
+	const watcher = await context.newPage();
+	await watcher.goto(board);
+	const watched = watcher.locator('[data-testid="fleet-row"][data-machine="Mill 2"] td').nth(5);
+	await expect(watched).toHaveText(String(acknowledgedBefore));
+
+	// Mill 2's open findings, from the board's count.
+	await page.goto(`${findings}?machine=2&status=open`);
+	await expect(page.getByRole('heading', { name: 'Findings — Mill 2' })).toBeVisible();
+	const item = page.getByTestId('finding').first();
+	await expect(item).toHaveAttribute('data-status', 'open');
+	// No comment, no acknowledgement: the reason is asked for.
+	await item.getByRole('button', { name: 'Acknowledge' }).click();
+	await expect(item.locator('.field-error')).toBeVisible();
+	await item.getByTestId('finding-comment').fill('Re-touching on second shift; bracket job paused');
+	await item.getByRole('button', { name: 'Acknowledge' }).click();
+	// Acknowledged findings leave the "open" list; show them all to see the history.
+	const id = await item.getAttribute('data-finding-id');
+	await page.goto(`${findings}?machine=2&status=all`);
+	const acked = page.locator(`[data-testid="finding"][data-finding-id="${id}"]`);
+	await expect(acked.getByTestId('finding-status')).toHaveText('◐Acknowledged');
+	await expect(acked.getByTestId('finding-history')).toContainText('Acknowledged by Keiko Hart');
+	await expect(acked.getByTestId('finding-history')).toContainText('bracket job paused');
+	await page.screenshot({ path: `${shots}/findings-acknowledged.png`, fullPage: true });
+
+	// The other tab's board catches up by itself (polling), no reload.
+	await expect(watched).toHaveText(String(acknowledgedBefore + 1), { timeout: 25_000 });
+	await watcher.close();
+
+	// The owner finds it in the shop's audit log.
+	const owner = await signedInClient(FERNHILL.owner);
+	const audit = await (await owner.get(`/shops/${FERNHILL.slug}/audit`)).text();
+	expect(audit).toContain('finding.acknowledge');
+	expect(audit).toContain(`finding:${id}`);
+	expect(audit).toContain('check.requested');
+	await owner.dispose();
+});
+
+test('an operator sees the board and findings read-only', async ({ page }) => {
+	await signIn(page, FERNHILL.operator);
+	await page.goto(board);
+	await expect(page.locator('[data-testid="fleet-row"][data-machine="Mill 2"]')).toBeVisible();
+	await expect(page.getByRole('button', { name: 'Check now' })).toHaveCount(0);
+	await expect(page.getByRole('button', { name: 'Save hour' })).toHaveCount(0);
+	await page.screenshot({ path: `${shots}/fleet-board-operator.png`, fullPage: true });
+	await page.goto(findings);
+	await expect(page.getByTestId('finding').first()).toBeVisible();
+	await expect(page.getByRole('button', { name: 'Acknowledge' })).toHaveCount(0);
+	await expect(page.getByRole('button', { name: 'Resolve' })).toHaveCount(0);
+	await expect(page.getByTestId('digest-setting')).toHaveCount(0);
+	await page.screenshot({ path: `${shots}/findings-operator.png`, fullPage: true });
+});
