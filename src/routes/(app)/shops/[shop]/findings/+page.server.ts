@@ -70,8 +70,10 @@ export const actions: Actions = {
 	/** The member's own morning digest: on or off (owners, admins and leads get one). */
 	digest: async (event) => {
 		const { shop, user } = await requireMember(event, 'findings.acknowledge');
-		const form = await superValidate(await event.request.formData(), zod4(digestPreferenceSchema));
-		if (!form.valid) return fail(400, { form });
+		const data = await event.request.formData();
+		const form = await superValidate(data, zod4(digestPreferenceSchema));
+		// A missing choice would otherwise default to the first one.
+		if (!form.valid || !data.has('receive')) return fail(400, { form });
 		await db()('public.memberships')
 			.where({ user_id: user.id, shop_id: shop.id })
 			.update({ digest_opt_out: form.data.receive === 'no' });

@@ -1,5 +1,5 @@
 import { fail } from '@sveltejs/kit';
-import { message, superValidate } from 'sveltekit-superforms';
+import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { can } from '$lib/permissions';
 import { checkHourSchema, checkNowSchema } from '$lib/schemas/fleet';
@@ -31,8 +31,10 @@ export const actions: Actions = {
 	/** "Check now": enqueue a check of the whole shop and hand back the job to follow. */
 	checkNow: async (event) => {
 		const { shop, user } = await requireMember(event, 'findings.acknowledge');
-		const form = await superValidate(await event.request.formData(), zod4(checkNowSchema));
-		if (!form.valid) return fail(400, { form });
+		const data = await event.request.formData();
+		const form = await superValidate(data, zod4(checkNowSchema));
+		// superforms fills a missing field with its default: an empty post must not start a check.
+		if (!form.valid || !data.has('scope')) return fail(400, { form });
 		try {
 			const jobId = await enqueueCheckNow(shop.id);
 			await withShop(shop, (trx) =>
@@ -53,9 +55,10 @@ export const actions: Actions = {
 	/** The local hour of the nightly check (owner, admin, lead). */
 	schedule: async (event) => {
 		const { shop, user } = await requireMember(event, 'findings.acknowledge');
-		const form = await superValidate(await event.request.formData(), zod4(checkHourSchema), {
-			id: 'check-hour'
-		});
+		const data = await event.request.formData();
+		const form = await superValidate(data, zod4(checkHourSchema), { id: 'check-hour' });
+		// A missing hour would otherwise default to 0 (midnight).
+		if (!data.get('hour')) return setError(form, 'hour', 'Pick an hour from 00 to 23.');
 		if (!form.valid) return fail(400, { form });
 		const hour = form.data.hour;
 		await db()('public.shops').where({ id: shop.id }).update({ check_hour: hour });
