@@ -3,6 +3,7 @@ import { createHash } from 'node:crypto';
 import { mkdirSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import { expect, test, type Page } from '@playwright/test';
+import knex from 'knex';
 import { DEMO_PASSWORD, FERNHILL } from './helpers';
 
 /** Kept as test artifacts, and looked at: `.data/test/screenshots/`. */
@@ -71,10 +72,12 @@ test('an operator uploads a program to the Mill 1 setup, follows a finding to it
 		mimeType: 'text/plain',
 		buffer: Buffer.from(body(FAST))
 	});
-	await page.getByLabel('Name (optional)').fill('O4472 quick faces');
+	// A name of its own per run, so the program starts at version 1 on a reused database too.
+	const name = `O4472 quick faces ${Date.now().toString(36)}`;
+	await page.getByLabel('Name (optional)').fill(name);
 	await page.getByTestId('upload-program').click();
 
-	await expect(page.getByTestId('program-name')).toHaveText('O4472 quick faces');
+	await expect(page.getByTestId('program-name')).toHaveText(name);
 	const findings = page.getByTestId('finding');
 	await expect(findings).toHaveCount(2);
 	const low = page.locator('[data-testid="finding"][data-kind="low-traverse"]');
@@ -104,7 +107,9 @@ test('an operator uploads a program to the Mill 1 setup, follows a finding to it
 		page.waitForEvent('download'),
 		page.getByTestId('download-report').click()
 	]);
-	expect(download.suggestedFilename()).toBe('program-check-o4472-quick-faces-v1.md');
+	expect(download.suggestedFilename()).toBe(
+		`program-check-${name.toLowerCase().replace(/ /g, '-')}-v1.md`
+	);
 	const report = readFileSync(await download.path(), 'utf8');
 	const sha = createHash('sha256').update(body(FAST)).digest('hex');
 	expect(report).toContain(sha);
@@ -127,7 +132,7 @@ test('an operator uploads a program to the Mill 1 setup, follows a finding to it
 
 	// Fix both and upload the new version from the program's page: clean.
 	await page.getByRole('link', { name: 'Back to the findings' }).click();
-	await page.getByLabel('New version of O4472 quick faces').setInputFiles({
+	await page.getByLabel(`New version of ${name}`).setInputFiles({
 		name: 'O4472.nc',
 		mimeType: 'text/plain',
 		buffer: Buffer.from(body(FIXED))
@@ -198,4 +203,45 @@ test('a large program is checked outside the request, with progress; without a w
 	await expect(page.getByTestId('no-findings')).toBeVisible({ timeout: 20_000 });
 	await expect(page.getByTestId('summary')).toContainText('60,000');
 	await shot(page, 'program-check-large-done');
+});
+
+test('without a worker, a queued check says so, shows its progress and can be checked here', async ({
+	page
+}) => {
+	// A queued check that was never put on the queue: what the page shows when no worker runs
+	// (or Redis was out of reach at upload). Uses the large program from the test above.
+	const url = process.env.DATABASE_URL ?? '';
+	if (!/_test$/.test(new URL(url).pathname)) throw new Error('needs the *_test database');
+	const sql = knex({ client: 'pg', connection: url, pool: { min: 0, max: 1 } });
+	const shop = await sql('shops').where({ slug: FERNHILL.slug }).first('schema_name');
+	const t = (name: string) => `${shop.schema_name}.${name}`;
+	const program = await sql(t('programs')).where({ name: 'O9000' }).first('id', 'setup_id');
+	const version = await sql(t('program_versions'))
+		.where({ program_id: program.id })
+		.orderBy('version', 'desc')
+		.first('id', 'version');
+	const done = await sql(t('program_checks')).where({ version_id: version.id }).first('input');
+	await sql(t('program_checks')).insert({
+		version_id: version.id,
+		mode: 'background',
+		status: 'queued',
+		input: JSON.stringify(done.input),
+		note: 'The job queue could not be reached, so the background worker has not been told about this check. Check it here instead.'
+	});
+	await sql.destroy();
+
+	await signIn(page, FERNHILL.operator);
+	await page.goto(
+		`/shops/${FERNHILL.slug}/setups/${program.setup_id}/programs/${program.id}?version=${version.version}`
+	);
+	const progress = page.getByTestId('check-progress');
+	await expect(progress).toContainText('Queued — the background worker will pick it up');
+	await expect(progress).toContainText('job queue could not be reached');
+	await expect(page.getByTestId('progress-text')).toHaveText('0% · 0 of 60,000 lines');
+	await expect(page.getByTestId('download-report')).toHaveCount(0);
+	await shot(page, 'program-check-queued');
+	await page.getByTestId('run-now').click();
+	await expect(page.getByTestId('no-findings')).toBeVisible({ timeout: 20_000 });
+	await expect(page.getByTestId('check-progress')).toHaveCount(0);
+	await shot(page, 'program-check-checked-here');
 });
