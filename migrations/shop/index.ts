@@ -13,6 +13,7 @@ import * as m0011 from './20261203070100_create_check_runs';
 import * as m0012 from './20261202040000_create_programs';
 import * as m0013 from './20261202040100_create_program_versions';
 import * as m0014 from './20261202040200_create_program_checks';
+import * as m0015 from './20261203080000_allow_recording_gauge_line_z';
 
 /**
  * The migrations every shop schema gets, in order. Schema-agnostic: they run with the search
@@ -33,5 +34,6 @@ export const shopMigrations: Record<string, Knex.Migration> = {
 	'20261203070100_create_check_runs': m0011,
 	'20261202040000_create_programs': m0012,
 	'20261202040100_create_program_versions': m0013,
-	'20261202040200_create_program_checks': m0014
+	'20261202040200_create_program_checks': m0014,
+	'20261203080000_allow_recording_gauge_line_z': m0015
 };

@@ -43,13 +43,26 @@ test('a lead converts Mill 2 from reference-touch to gauge-length and every spin
 	await expect(page).toHaveURL(/\/machines\/2\?converted=1$/);
 	await expect(page.getByText('Gauge length (tool measured from the gauge line)')).toBeVisible();
 	await expect(page.getByTestId('tools-table')).toContainText('2.9767 in');
+	// The R typed for the conversion is now part of the reference record.
+	await expect(page.getByTestId('reference')).toContainText('-17.2500 in');
+
+	// And back: the same numbers as before, exactly (and Mill 2 is as the other tests expect it).
+	await page.getByRole('link', { name: 'Convert convention' }).click();
+	await page.getByLabel('Convert to').selectOption('reference-touch');
+	await page.getByRole('button', { name: 'Show the converted table' }).click();
+	await expect(page.getByTestId('conversion-preview')).toContainText('All 2 unchanged');
+	await page.getByRole('button', { name: 'Convert and record' }).click();
+	await expect(page.getByTestId('tools-table')).toContainText('-14.2733 in');
+	await expect(page.getByTestId('fixtures-table')).toContainText('1.8250 in');
+	// Converting measured nothing: what was stale against the re-established reference still is.
+	await expect(page.getByTestId('fixtures-table')).toContainText('Stale');
 });
 
-test('a CSV with one bad row shows that row, column and value, and imports only on an explicit choice', async ({
+test('a CSV with one bad row (on idle Mill 4) shows that row, column and value, and imports only on an explicit choice', async ({
 	page
 }) => {
 	await signIn(page, FERNHILL.lead);
-	await page.goto('/shops/fernhill-precision/machines/1/tools');
+	await page.goto('/shops/fernhill-precision/machines/4/tools');
 	const csv = [
 		't,h,description,holder,stickout',
 		'21,21,5/8 in end mill,CAT40 shrink fit,1.5',
@@ -81,7 +94,7 @@ test('a CSV with one bad row shows that row, column and value, and imports only 
 
 test('a CSV missing a required column is refused with the column named', async ({ page }) => {
 	await signIn(page, FERNHILL.lead);
-	await page.goto('/shops/fernhill-precision/machines/1/tools');
+	await page.goto('/shops/fernhill-precision/machines/4/tools');
 	await page.getByLabel('CSV file', { exact: true }).setInputFiles({
 		name: 'x.csv',
 		mimeType: 'text/csv',

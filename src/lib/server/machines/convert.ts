@@ -40,6 +40,7 @@ export async function planConversion(
 	target: Convention,
 	geometry: ConversionGeometry
 ): Promise<ConversionPlan> {
+	await recordGaugeLineZ(trx, machine, geometry.referenceGaugeLineZ, false);
 	const from = tableFrom(machine, await currentOffsets(trx, machine.id));
 	const to = convertTable(from, target, geometry);
 	const pairs: PairCheck[] = [];
@@ -56,6 +57,32 @@ export async function planConversion(
 	return { from, to, pairs };
 }
 
+export class ConversionRefused extends Error {}
+
+/**
+ * A gauge-line Z given for the conversion becomes part of the reference record when the record
+ * had none (filled in once; see the 20261203080000 migration). One that contradicts a recorded
+ * value is refused: a different R means the reference itself changed, which is re-establishing.
+ */
+async function recordGaugeLineZ(
+	trx: Knex.Transaction,
+	machine: MachineRecord,
+	r: number | undefined,
+	write: boolean
+) {
+	if (r === undefined) return;
+	const [reference] = await listReferences(trx, machine.id);
+	if (!reference) return;
+	if (reference.gaugeLineZ === null) {
+		if (write)
+			await trx('reference_surfaces').where({ id: reference.id }).update({ gauge_line_z: r });
+	} else if (Math.abs(reference.gaugeLineZ - r) > 1e-9) {
+		throw new ConversionRefused(
+			`differs from the gauge-line Z recorded on reference v${reference.version} (${reference.gaugeLineZ}); re-establish the reference to record a new one`
+		);
+	}
+}
+
 /** Converts and records: the machine's convention, a new offset version of every register, an audit entry — one transaction. */
 export async function convertMachine(
 	trx: Knex.Transaction,
@@ -66,36 +93,40 @@ export async function convertMachine(
 	ip = ''
 ): Promise<ConversionPlan> {
 	const plan = await planConversion(trx, machine, target, geometry);
+	await recordGaugeLineZ(trx, machine, geometry.referenceGaugeLineZ, true);
 	const moved = plan.pairs.filter((p) => Math.abs(p.before - p.after) > 1e-9);
 	if (moved.length > 0)
 		throw new Error(`conversion moved ${moved.length} spindle Z value(s); nothing saved`);
-	const [reference] = await listReferences(trx, machine.id);
 	await trx('machines')
 		.where({ id: machine.id })
 		.update({
 			convention: target,
 			master_tool_h: target === 'master-tool' ? Number(plan.to.masterTool) : null
 		});
+	// A conversion re-expresses measurements; it measures nothing. Each new version keeps the
+	// reading, reference version and time of the one it converts, so stale-age and
+	// stale-reference say the same after converting as before (the audit log records when).
+	const sources = new Map(
+		(await currentOffsets(trx, machine.id)).map((o) => [`${o.kind}:${o.register}`, o])
+	);
 	const rows = [
-		...Object.entries(plan.to.work).map(([register, value]) => ({
-			register_kind: 'work',
-			register,
-			value
-		})),
-		...Object.entries(plan.to.tools).map(([register, value]) => ({
-			register_kind: 'tool',
-			register,
-			value
-		}))
-	].map((r) => ({
-		...r,
-		machine_id: machine.id,
-		units: machine.units,
-		convention: target,
-		reading_id: null,
-		reference_version: reference?.version ?? 1,
-		created_by: by.id
-	}));
+		...Object.entries(plan.to.work).map(([register, value]) => ({ kind: 'work', register, value })),
+		...Object.entries(plan.to.tools).map(([register, value]) => ({ kind: 'tool', register, value }))
+	].map((r) => {
+		const source = sources.get(`${r.kind}:${r.register}`);
+		return {
+			machine_id: machine.id,
+			register_kind: r.kind,
+			register: r.register,
+			value: r.value,
+			units: machine.units,
+			convention: target,
+			reading_id: source?.readingId ?? null,
+			reference_version: source?.referenceVersion ?? 1,
+			created_by: by.id,
+			...(source ? { created_at: source.measuredAt } : {})
+		};
+	});
 	if (rows.length > 0) await trx('offset_versions').insert(rows);
 	await audit(trx, {
 		actorUserId: by.id,

@@ -6,7 +6,7 @@ import { conversionFormSchema } from '$lib/schemas/conversion';
 import { clientAddress } from '$lib/server/auth/client-address';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
-import { convertMachine, planConversion } from '$lib/server/machines/convert';
+import { ConversionRefused, convertMachine, planConversion } from '$lib/server/machines/convert';
 import { machineFromParam } from '$lib/server/machines/load';
 import { listReferences } from '$lib/server/offsets/machine-state';
 import type { Actions, PageServerLoad, RequestEvent } from './$types';
@@ -53,6 +53,9 @@ async function run(event: RequestEvent, save: boolean) {
 			if (save) redirect(303, `/shops/${shop.slug}/machines/${machine.id}?converted=1`);
 			return { form, plan };
 		} catch (e) {
+			if (e instanceof ConversionRefused) {
+				return setError(form, 'referenceGaugeLineZ', `Gauge-line Z ${e.message}.`);
+			}
 			if (!isOffsetInputError(e)) throw e;
 			const issue = e.issues[0];
 			const key = Object.keys(FIELD).find((k) => issue.field.includes(k));
