@@ -46,6 +46,9 @@ redis-cli -p "$REDIS_PORT" -n "$(printf '%s' "$REDIS_URL" | sed -E 's#.*/([0-9]+
 pids=()
 cleanup() { for p in "${pids[@]}"; do kill "$p" 2>/dev/null || true; done; wait 2>/dev/null || true; }
 trap cleanup EXIT INT TERM
+for p in "$FAKE_SES_PORT" "$FAKE_STRIPE_PORT" "$PORT"; do
+	port_in_use "$p" && die "port $p is already in use (an earlier run still going?); stop it or set TEST_PORT / TEST_FAKE_SES_PORT / TEST_FAKE_STRIPE_PORT."
+done
 node_modules/.bin/tsx fakes/index.ts > .data/test/fakes.log 2>&1 & pids+=($!)
 for _ in $(seq 100); do port_in_use "$FAKE_SES_PORT" && port_in_use "$FAKE_STRIPE_PORT" && break; sleep 0.2; done
 port_in_use "$FAKE_SES_PORT" || die "the fake SES did not start (see .data/test/fakes.log)"
