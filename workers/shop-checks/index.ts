@@ -1,4 +1,5 @@
 import { Worker } from 'bullmq';
+import type { Knex } from 'knex';
 import { db } from '$lib/server/db';
 import { workerConnection, QUEUE_PREFIX } from '$lib/server/queues/connection';
 import {
@@ -15,28 +16,38 @@ import { processShopCheck } from './processor';
 const SYNC_EVERY_MS = 10 * 60_000;
 
 /**
+ * A shop that has never been checked (a new clone, a new shop) gets one check at once rather
+ * than waiting for its first night. It runs as `first-check`, which counts as that day's
+ * nightly run and sends the digest, so a lead of a fresh demo sees one in /dev/mailbox right
+ * away (still at most one per member per day). The fixed job id makes a restart add nothing
+ * twice. Returns the shop ids queued.
+ */
+export async function firstChecks(
+	queue: ReturnType<typeof shopChecksQueue>,
+	knex: Knex = db()
+): Promise<number[]> {
+	const shops = await knex('public.shops').whereNotNull('schema_name').select('id', 'schema_name');
+	const queued: number[] = [];
+	for (const s of shops) {
+		const { rows } = await knex.raw('select exists (select 1 from ??.check_runs) as ran', [
+			s.schema_name
+		]);
+		if (rows[0].ran) continue;
+		queued.push(Number(s.id));
+		await queue.add(
+			'first-check',
+			{ shopId: Number(s.id) },
+			{ ...jobOptions(), jobId: `first-${s.id}` }
+		);
+	}
+	return queued;
+}
+
+/**
  * The shop-checks worker: nightly checks and "Check now" jobs, one shop at a time per job,
  * a couple of shops in parallel. Keeps the per-shop schedulers in step with public.shops at
  * start and every ten minutes (a new shop, a changed hour or time zone).
  */
-/**
- * A shop that has never been checked (a new clone, a new shop) gets one check at once rather
- * than waiting for its first night. The fixed job id makes a restart add nothing twice.
- */
-async function firstChecks(queue: ReturnType<typeof shopChecksQueue>) {
-	const shops = await db()('public.shops').whereNotNull('schema_name').select('id', 'schema_name');
-	for (const s of shops) {
-		const { rows } = await db().raw('select exists (select 1 from ??.check_runs) as ran', [
-			s.schema_name
-		]);
-		if (!rows[0].ran)
-			await queue.add(
-				'check-now',
-				{ shopId: Number(s.id) },
-				{ ...jobOptions(), jobId: `first-${s.id}` }
-			);
-	}
-}
 
 export async function start(): Promise<Closable[]> {
 	const queueConnection = workerConnection();

@@ -27,8 +27,8 @@ async function loadShop(knex: Knex, shopId: number) {
 }
 
 /**
- * One job of the shop-checks queue: check every machine of the shop, then (nightly only) the
- * digest. Safe to run again for the same job — the check is idempotent and the digest is at
+ * One job of the shop-checks queue: check every machine of the shop, then (nightly and a
+ * shop's first check only) the digest. Safe to run again for the same job — the check is idempotent and the digest is at
  * most one per member per day (see runShopCheck and sendDigests). Throws to let BullMQ retry.
  */
 export async function processShopCheck(
@@ -40,7 +40,8 @@ export async function processShopCheck(
 	const shop = await loadShop(knex, Number(job.data.shopId));
 	if (!shop) return { skipped: 'no such shop' };
 	const jobId = String(job.id);
-	const trigger = job.name === 'nightly' ? 'nightly' : 'manual';
+	// A shop's first check at worker start stands in for that day's nightly run (digest too).
+	const trigger = job.name === 'nightly' || job.name === 'first-check' ? 'nightly' : 'manual';
 	try {
 		const summary = await runShopCheck(
 			shop,

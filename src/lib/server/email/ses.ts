@@ -1,21 +1,26 @@
 import { SESClient, SendEmailCommand } from '@aws-sdk/client-ses';
 import { config } from '../config';
 
-let client: SESClient | undefined;
+const clients = new Map<string | undefined, SESClient>();
 
 /**
  * The real AWS SDK client. In development and tests its endpoint is the project's fake SES
  * (fakes/ses.ts); in production leave SES_ENDPOINT and FAKE_SES_PORT unset to reach AWS.
+ * The endpoint is read on every call (one client kept per endpoint), so a test can move it.
  */
 export function ses(): SESClient {
-	client ??= new SESClient({
+	const endpoint = config.sesEndpoint;
+	let client = clients.get(endpoint);
+	if (client) return client;
+	client = new SESClient({
 		region: process.env.AWS_REGION ?? 'us-east-1',
-		endpoint: config.sesEndpoint,
+		endpoint,
 		credentials: {
 			accessKeyId: process.env.AWS_ACCESS_KEY_ID ?? 'local-fake',
 			secretAccessKey: process.env.AWS_SECRET_ACCESS_KEY ?? 'local-fake'
 		}
 	});
+	clients.set(endpoint, client);
 	return client;
 }
 

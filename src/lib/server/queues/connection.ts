@@ -10,8 +10,8 @@ export function workerConnection(): Redis {
 	return new Redis(config.redisUrl, { maxRetriesPerRequest: null });
 }
 
-export function producerConnection(extra: RedisOptions = {}): Redis {
-	return new Redis(config.redisUrl, {
+export function producerConnection(extra: RedisOptions = {}, url = config.redisUrl): Redis {
+	return new Redis(url, {
 		maxRetriesPerRequest: 1,
 		enableOfflineQueue: false,
 		...extra

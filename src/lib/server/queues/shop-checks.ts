@@ -14,7 +14,11 @@ export const SHOP_CHECKS = 'shop-checks';
 export interface ShopCheckData {
 	shopId: number;
 }
-export type ShopCheckName = 'nightly' | 'check-now' | 'sync-schedules';
+/**
+ * `first-check` is a never-checked shop's first check at worker start: it counts as that
+ * day's nightly run (digest included), so a new shop's leads need not wait for the night.
+ */
+export type ShopCheckName = 'nightly' | 'first-check' | 'check-now' | 'sync-schedules';
 
 /** Retries with exponential backoff; finished jobs are removed after a while (BullMQ guidance). */
 export function jobOptions(
@@ -115,15 +119,38 @@ async function withTimeout<T>(p: Promise<T>, ms = 3000): Promise<T> {
 	}
 }
 
-/** Enqueues a check of the shop now; returns the job id to follow. */
-export async function enqueueCheckNow(shopId: number): Promise<string> {
+/** Whether the connection is (or within `ms` becomes) ready; false while Redis is away. */
+async function connected(connection: unknown, ms = 1500): Promise<boolean> {
+	const c = connection as Partial<Redis>;
+	if (typeof c?.status !== 'string' || typeof c.once !== 'function') return true;
+	if (c.status === 'ready') return true;
+	return new Promise((resolve) => {
+		const onReady = () => {
+			clearTimeout(timer);
+			resolve(true);
+		};
+		const timer = setTimeout(() => {
+			c.off?.('ready', onReady);
+			resolve(false);
+		}, ms);
+		c.once!('ready', onReady);
+	});
+}
+
+/**
+ * Enqueues a check of the shop now; returns the job id to follow. Throws ChecksPausedError
+ * within a couple of seconds when Redis cannot be reached (`queue` is for tests). Nothing is
+ * handed to BullMQ while the connection is down: an add waiting for Redis would otherwise be
+ * sent when it returns, running a check the user was told is paused.
+ */
+export async function enqueueCheckNow(
+	shopId: number,
+	queue: Queue<ShopCheckData, unknown, string> = appQueue()
+): Promise<string> {
+	if (!(await connected(queue.opts.connection))) throw new ChecksPausedError();
 	try {
 		const job = await withTimeout(
-			appQueue().add(
-				'check-now',
-				{ shopId },
-				{ ...jobOptions(), jobId: `now-${shopId}-${Date.now()}` }
-			)
+			queue.add('check-now', { shopId }, { ...jobOptions(), jobId: `now-${shopId}-${Date.now()}` })
 		);
 		return job.id!;
 	} catch {
