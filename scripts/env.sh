@@ -1,7 +1,16 @@
 # Shared settings for the shell scripts: sourced, never run. Reads .env when present, then
 # fills in loopback defaults. Every value can be overridden from the environment.
 ROOT="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
-if [ -f "$ROOT/.env" ]; then set -a; . "$ROOT/.env"; set +a; fi
+# .env fills in what the environment does not already set (the environment wins, as with
+# dotenv), so `npm test`'s own database and ports are never replaced by the development ones.
+if [ -f "$ROOT/.env" ]; then
+	while IFS= read -r line || [ -n "$line" ]; do
+		case "$line" in '' | \#*) continue ;; esac
+		key="${line%%=*}"
+		case "$key" in *[!A-Za-z0-9_]* | '') continue ;; esac
+		[ -n "${!key+x}" ] || eval "export $line"
+	done < "$ROOT/.env"
+fi
 
 export PORT="${PORT:-5173}"
 export DATABASE_URL="${DATABASE_URL:-postgres://postgres@127.0.0.1:54329/datumkeep}"

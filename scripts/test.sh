@@ -21,6 +21,10 @@ export BCRYPT_COST=8
 export DATUMKEEP_DEV_MAILBOX=1
 export AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED=true
 . scripts/env.sh
+case "${DATABASE_URL##*/}" in
+	*_test) ;;
+	*) die "npm test drops and re-creates its database; DATABASE_URL must name a *_test database, not ${DATABASE_URL##*/}." ;;
+esac
 
 need_debian 'postgresql:/usr/lib/postgresql/*/bin/pg_ctl' 'redis-server:/usr/bin/redis-server' 'chromium:/usr/bin/chromium'
 need_node_modules
