@@ -3,6 +3,8 @@
  * and the npm package gcode-parser (2.2.0) reading the same files, each run in a fresh process.
  * Figures go to the console and to bench/out/results.json; docs/PERFORMANCE.md explains them.
  * Options: BENCH_RUNS (default 3; the median is reported), BENCH_SKIP_GENERATE=1.
+ * Then the fleet board API under load (bench/fleet.ts, its own process). `npm run bench -- fleet`
+ * runs only that one, `npm run bench -- program` only the program check.
  */
 import { execFileSync } from 'node:child_process';
 import { existsSync, mkdirSync, statSync, writeFileSync } from 'node:fs';
@@ -117,7 +119,19 @@ async function main(): Promise<void> {
 	);
 }
 
-main().catch((e) => {
-	console.error(e);
+const only = process.argv[2];
+if (only && only !== 'fleet' && only !== 'program') {
+	console.error(`npm run bench [-- fleet | program]; got "${only}"`);
 	process.exit(1);
-});
+}
+(only === 'fleet' ? Promise.resolve() : main())
+	.then(() => {
+		if (only === 'program') return;
+		execFileSync(process.execPath, ['--import', 'tsx', join(here, 'fleet.ts')], {
+			stdio: 'inherit'
+		});
+	})
+	.catch((e) => {
+		console.error(e);
+		process.exit(1);
+	});
