@@ -14,6 +14,8 @@ import * as m0012 from './20261202040000_create_programs';
 import * as m0013 from './20261202040100_create_program_versions';
 import * as m0014 from './20261202040200_create_program_checks';
 import * as m0015 from './20261203080000_allow_recording_gauge_line_z';
+import * as m0016 from './20261203085000_add_machine_photo';
+import * as m0017 from './20261203090000_create_current_offsets';
 
 /**
  * The migrations every shop schema gets, in order. Schema-agnostic: they run with the search
@@ -35,5 +37,7 @@ export const shopMigrations: Record<string, Knex.Migration> = {
 	'20261202040000_create_programs': m0012,
 	'20261202040100_create_program_versions': m0013,
 	'20261202040200_create_program_checks': m0014,
-	'20261203080000_allow_recording_gauge_line_z': m0015
+	'20261203080000_allow_recording_gauge_line_z': m0015,
+	'20261203085000_add_machine_photo': m0016,
+	'20261203090000_create_current_offsets': m0017
 };

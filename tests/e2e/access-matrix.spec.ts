@@ -39,8 +39,10 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	'/shops/[shop]/machines/[machine]': { allowed: ALL },
 	'/shops/[shop]/machines/[machine]/edit': {
 		allowed: ['owner', 'admin', 'lead'],
-		actions: ['default']
+		actions: ['save', 'photo']
 	},
+	// Mill 1's photo is uploaded by the lead in beforeAll below, so there is one to read.
+	'/shops/[shop]/machines/[machine]/photo': { allowed: ALL },
 	'/shops/[shop]/machines/[machine]/tools': {
 		allowed: ALL,
 		// Reading the rack is for everyone; changing it is lead and up.
@@ -176,6 +178,17 @@ test.beforeAll(async () => {
 	for (const role of ROLES)
 		clients.set(role, await signedInClient(FERNHILL[role as keyof typeof FERNHILL]));
 	clients.set('outsider', await signedInClient(QUARRY.owner));
+	// A real (tiny) PNG as Mill 1's photo, through the lead's own upload action.
+	const png = Buffer.from(
+		'iVBORw0KGgoAAAANSUhEUgAAAAEAAAABCAYAAAAfFcSJAAAADUlEQVR42mNk+M9QDwADhgGAWjR9awAAAABJRU5ErkJggg==',
+		'base64'
+	);
+	const up = await clients.get('lead')!.post(`/shops/${FERNHILL.slug}/machines/1/edit?/photo`, {
+		multipart: { photo: { name: 'mill-1.png', mimeType: 'image/png', buffer: png } },
+		headers: { accept: 'text/html' },
+		maxRedirects: 0
+	});
+	expect(up.status(), 'photo upload').toBe(303);
 });
 test.afterAll(async () => {
 	for (const c of clients.values()) await c.dispose();

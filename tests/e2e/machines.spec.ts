@@ -140,3 +140,32 @@ test('an operator reads machines and tools but is offered no editing', async ({ 
 	const res = await page.goto('/shops/fernhill-precision/machines/1/edit');
 	expect(res?.status()).toBe(403);
 });
+
+test('a lead adds a photo to Mill 3; a file that is not an image is refused by name', async ({
+	page
+}) => {
+	await signIn(page, FERNHILL.lead);
+	await page.goto('/shops/fernhill-precision/machines/3/edit');
+	await page.getByLabel('Photo file').setInputFiles({
+		name: 'notes.png',
+		mimeType: 'image/png',
+		buffer: Buffer.from('not really a picture')
+	});
+	await page.getByRole('button', { name: 'Upload photo' }).click();
+	await expect(page.getByRole('alert')).toContainText('"notes.png" is');
+	await expect(page.getByRole('alert')).toContainText('JPEG, PNG or WebP');
+	const png = Buffer.from(
+		'iVBORw0KGgoAAAANSUhEUgAAAAEAAAABCAYAAAAfFcSJAAAADUlEQVR42mNk+M9QDwADhgGAWjR9awAAAABJRU5ErkJggg==',
+		'base64'
+	);
+	await page
+		.getByLabel('Photo file')
+		.setInputFiles({ name: 'mill-3.png', mimeType: 'image/png', buffer: png });
+	await page.getByRole('button', { name: 'Upload photo' }).click();
+	await expect(page).toHaveURL(/\/machines\/3\?photo=1$/);
+	const img = page.getByTestId('machine-photo');
+	await expect(img).toBeVisible();
+	const res = await page.request.get('/shops/fernhill-precision/machines/3/photo');
+	expect(res.headers()['content-type']).toBe('image/png');
+	expect(Buffer.from(await res.body()).equals(png)).toBe(true);
+});

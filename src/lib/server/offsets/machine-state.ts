@@ -23,6 +23,7 @@ export interface MachineRecord {
 	masterToolH: number | null;
 	notes: string;
 	createdAt: string;
+	hasPhoto: boolean;
 }
 
 export interface ReferenceRecord {
@@ -63,7 +64,8 @@ export function toMachineRecord(r: Record<string, unknown>): MachineRecord {
 		convention: r.convention as Convention,
 		masterToolH: num(r.master_tool_h),
 		notes: String(r.notes ?? ''),
-		createdAt: iso(r.created_at)
+		createdAt: iso(r.created_at),
+		hasPhoto: Boolean(r.photo_key)
 	};
 }
 
@@ -114,23 +116,26 @@ export async function listReferences(
 	}));
 }
 
-/** The newest offset version of every register of the machine (one query, DISTINCT ON). */
+/**
+ * The newest offset version of every register of the machine, read from `current_offsets`
+ * (kept by a trigger on offset_versions: the row a DISTINCT ON over the versions would give).
+ */
 export async function currentOffsets(
 	trx: Knex.Transaction,
 	machineId: number
 ): Promise<CurrentOffset[]> {
-	const rows = await trx.select('*').from(
-		trx('offset_versions')
-			.where({ machine_id: machineId })
-			.distinctOn('register_kind', 'register')
-			.orderBy([
-				{ column: 'register_kind' },
-				{ column: 'register' },
-				{ column: 'created_at', order: 'desc' },
-				{ column: 'id', order: 'desc' }
-			])
-			.as('latest')
-	);
+	const rows = await trx('current_offsets')
+		.where({ machine_id: machineId })
+		.orderBy([{ column: 'register_kind' }, { column: 'register' }])
+		.select(
+			'register_kind',
+			'register',
+			'value',
+			'created_at',
+			'reference_version',
+			'reading_id',
+			'offset_version_id'
+		);
 	return rows.map((r) => ({
 		kind: r.register_kind,
 		register: r.register,
@@ -138,7 +143,7 @@ export async function currentOffsets(
 		measuredAt: iso(r.created_at),
 		referenceVersion: r.reference_version,
 		readingId: num(r.reading_id),
-		offsetVersionId: Number(r.id)
+		offsetVersionId: Number(r.offset_version_id)
 	}));
 }
 

@@ -1,4 +1,5 @@
 import { fail, redirect } from '@sveltejs/kit';
+import { PHOTO_MAX_BYTES } from '$lib/server/setups/photos';
 import { setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { machineFormSchema } from '$lib/schemas/machine';
@@ -6,6 +7,7 @@ import { clientAddress } from '$lib/server/auth/client-address';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
+import { setMachinePhoto } from '$lib/server/machines/photo';
 import { updateMachine } from '$lib/server/machines/service';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -26,12 +28,17 @@ export const load: PageServerLoad = async (event) => {
 			},
 			zod4(machineFormSchema)
 		);
-		return { machine: { id: machine.id, name: machine.name }, form, unitsLocked: Number(n) > 0 };
+		return {
+			machine: { id: machine.id, name: machine.name, hasPhoto: machine.hasPhoto },
+			form,
+			unitsLocked: Number(n) > 0,
+			photoMaxMb: PHOTO_MAX_BYTES / 1024 / 1024
+		};
 	});
 };
 
 export const actions: Actions = {
-	default: async (event) => {
+	save: async (event) => {
 		const { shop, user } = await requireMember(event, 'machines.write');
 		const form = await superValidate(await event.request.formData(), zod4(machineFormSchema));
 		if (!form.valid) return fail(400, { form });
@@ -40,6 +47,16 @@ export const actions: Actions = {
 			const result = await updateMachine(trx, machine.id, form.data, user, clientAddress(event));
 			if (!result.ok) return setError(form, (result.field ?? 'name') as 'name', result.message);
 			redirect(303, `/shops/${shop.slug}/machines/${machine.id}`);
+		});
+	},
+	photo: async (event) => {
+		const { shop, user } = await requireMember(event, 'machines.write');
+		const file = (await event.request.formData()).get('photo');
+		return withShop(shop, async (trx) => {
+			const machine = await machineFromParam(trx, event.params.machine);
+			const r = await setMachinePhoto(trx, shop.schemaName, machine.id, file, user);
+			if (!r.ok) return fail(400, { photoError: r.message });
+			redirect(303, `/shops/${shop.slug}/machines/${machine.id}?photo=1`);
 		});
 	}
 };
