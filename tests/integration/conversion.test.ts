@@ -200,6 +200,46 @@ describe('converting a machine between conventions (real PostgreSQL)', () => {
 		).rejects.toThrow(/append-only/);
 	});
 
+	it('applies over versions saved with microsecond times (as readings saved by the app are)', async () => {
+		const id = await machineWithOffsets();
+		await withShop(
+			shop,
+			(trx) =>
+				trx('offset_versions').insert({
+					machine_id: id,
+					register_kind: 'tool',
+					register: '2',
+					value: -13.5021,
+					units: 'inch',
+					convention: 'reference-touch',
+					reference_version: 2,
+					// now() carries microseconds, unlike any JavaScript Date.
+					created_at: trx.raw("now() - interval '1 hour' + interval '0.000123 second'")
+				}),
+			knex
+		);
+		await withShop(
+			shop,
+			async (trx) =>
+				convertMachine(
+					trx,
+					(await getMachine(trx, id))!,
+					'gauge-length',
+					{ referenceGaugeLineZ: -17.25 },
+					by
+				),
+			knex
+		);
+		const h2 = await withShop(
+			shop,
+			async (trx) =>
+				(await currentOffsets(trx, id)).find((o) => o.kind === 'tool' && o.register === '2')!,
+			knex
+		);
+		// Gauge length: -13.5021 − (-17.2500) = 3.7479 in (DESIGN.md §2).
+		expect(h2.value).toBe(3.7479);
+	});
+
 	it('returns to the same numbers exactly after a round trip', async () => {
 		const id = await machineWithOffsets();
 		const before = await withShop(shop, (trx) => currentOffsets(trx, id), knex);

@@ -124,7 +124,15 @@ export async function convertMachine(
 			reading_id: source?.readingId ?? null,
 			reference_version: source?.referenceVersion ?? 1,
 			created_by: by.id,
-			...(source ? { created_at: source.measuredAt } : {})
+			// Copied in SQL, not through a JS Date: PostgreSQL keeps microseconds and a Date does
+			// not, and a converted version a few microseconds older than its source would lose.
+			...(source
+				? {
+						created_at: trx.raw('(select created_at from offset_versions where id = ?)', [
+							source.offsetVersionId
+						])
+					}
+				: {})
 		};
 	});
 	if (rows.length > 0) await trx('offset_versions').insert(rows);
