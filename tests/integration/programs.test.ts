@@ -16,6 +16,7 @@ import { createShopWithOwner } from '$lib/server/shops/create';
 import { getSetupDetail } from '$lib/server/setups/queries';
 import { createSetup, type Actor } from '$lib/server/setups/write';
 import { testDb, uniqueSuffix } from './db';
+import { insertTwoFixtureMill } from './two-fixture-mill';
 
 const knex: Knex = testDb();
 let uploads: string;
@@ -42,63 +43,19 @@ beforeAll(async () => {
 	shop = created.shop;
 	actor = { id: created.userId, email };
 	setupId = await inShop(async (trx) => {
-		const [m] = await trx('machines')
-			.insert({
-				name: 'Test Mill',
-				units: 'inch',
-				z_travel: 20,
-				resolution: 0.0001,
-				control_style: 'iso',
-				convention: 'reference-touch'
-			})
-			.returning('id');
-		await trx('reference_surfaces').insert({
-			machine_id: m.id,
-			version: 1,
-			instrument: '1-2-3 block',
-			height: 3
-		});
-		const fx = await trx('fixtures')
-			.insert([
-				{ machine_id: m.id, register: 'G54', name: 'Op A vise' },
-				{ machine_id: m.id, register: 'G55', name: 'Op B plate' }
-			])
-			.returning('id');
-		const tools = await trx('tools')
-			.insert([
-				{ machine_id: m.id, t_number: 1, h_number: 1, description: 'Face mill' },
-				{ machine_id: m.id, t_number: 2, h_number: 2, description: 'End mill' }
-			])
-			.returning('id');
-		const offsets: [string, string, number][] = [
-			['work', 'G54', 2.8125],
-			['work', 'G55', 1.063],
-			['tool', '1', -15.8421],
-			['tool', '2', -14.7502]
-		];
-		await trx('offset_versions').insert(
-			offsets.map(([kind, register, value]) => ({
-				machine_id: m.id,
-				register_kind: kind,
-				register,
-				value,
-				units: 'inch',
-				convention: 'reference-touch',
-				reference_version: 1
-			}))
-		);
+		const m = await insertTwoFixtureMill(trx);
 		const r = await createSetup(
 			trx,
 			{
-				machineId: Number(m.id),
+				machineId: m.id,
 				name: 'Pump housing, ops A and B',
 				job: 'Job 1',
 				clearanceMargin: 0.5,
 				fixtures: [
-					{ fixtureId: Number(fx[0].id), obstacleHeight: 3.125 },
-					{ fixtureId: Number(fx[1].id), obstacleHeight: 1.875 }
+					{ fixtureId: m.fixtures.G54, obstacleHeight: 3.125 },
+					{ fixtureId: m.fixtures.G55, obstacleHeight: 1.875 }
 				],
-				toolIds: [Number(tools[0].id), Number(tools[1].id)],
+				toolIds: [m.t1, m.t2],
 				ops: []
 			},
 			actor

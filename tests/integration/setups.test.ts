@@ -19,6 +19,7 @@ import {
 } from '$lib/server/setups/write';
 import { engineMachine, getMachine } from '$lib/server/offsets/machine-state';
 import { testDb, uniqueSuffix } from './db';
+import { insertTwoFixtureMill } from './two-fixture-mill';
 
 const knex: Knex = testDb();
 let uploads: string;
@@ -44,60 +45,14 @@ beforeAll(async () => {
 	actor = { id: created.userId, email };
 
 	await inShop(async (trx) => {
-		const [m] = await trx('machines')
-			.insert({
-				name: 'Test Mill',
-				units: 'inch',
-				z_travel: 20,
-				resolution: 0.0001,
-				control_style: 'iso',
-				convention: 'reference-touch'
-			})
-			.returning('id');
-		await trx('reference_surfaces').insert({
-			machine_id: m.id,
-			version: 1,
-			instrument: '1-2-3 block',
-			height: 3
-		});
-		const fx = await trx('fixtures')
-			.insert([
-				{ machine_id: m.id, register: 'G54', name: 'Op A vise' },
-				{ machine_id: m.id, register: 'G55', name: 'Op B plate' },
-				{ machine_id: m.id, register: 'G56', name: 'Spare, never measured' }
-			])
-			.returning('id');
-		const tools = await trx('tools')
-			.insert([
-				{ machine_id: m.id, t_number: 1, h_number: 1, description: 'Face mill' },
-				{ machine_id: m.id, t_number: 2, h_number: 2, description: 'End mill' }
-			])
-			.returning('id');
-		// Reference-touch: W_k = h_k (program zero above the reference), H_i = R + L_i.
-		const offsets: [string, string, number][] = [
-			['work', 'G54', 2.8125],
-			['work', 'G55', 1.063],
-			['tool', '1', -15.8421],
-			['tool', '2', -14.7502]
-		];
-		await trx('offset_versions').insert(
-			offsets.map(([kind, register, value]) => ({
-				machine_id: m.id,
-				register_kind: kind,
-				register,
-				value,
-				units: 'inch',
-				convention: 'reference-touch',
-				reference_version: 1
-			}))
-		);
+		const m = await insertTwoFixtureMill(trx, [{ register: 'G56', name: 'Spare, never measured' }]);
 		mill = {
-			id: Number(m.id),
-			g54: Number(fx[0].id),
-			g55: Number(fx[1].id),
-			g56: Number(fx[2].id),
-			t1: Number(tools[0].id),
-			t2: Number(tools[1].id)
+			id: m.id,
+			g54: m.fixtures.G54,
+			g55: m.fixtures.G55,
+			g56: m.fixtures.G56,
+			t1: m.t1,
+			t2: m.t2
 		};
 
 		const [rs] = await trx('machines')
