@@ -7,12 +7,16 @@
  *    machines, 4,000 tools and 50,000 readings (bench/fleet-data.ts, the scale test's data) and
  *    a lead to sign in as.
  * 2. The production build (`vite build`, unless BENCH_SKIP_BUILD=1) served by `node build` on a
- *    free loopback port, exactly as in production: hooks, Auth.js session, guard, Knex pool.
+ *    free loopback port, exactly as in production: hooks, Auth.js session, guard, board cache,
+ *    Knex pool. A second server from the same build with FLEET_BOARD_CACHE=off shows what a
+ *    board costs when it is built for every request (after every change, in effect).
  * 3. A sign-in through the real form action (POST /signin with an Origin header); its session
  *    cookie is sent with every request to GET /api/v1/shops/<shop>/fleet.
- * 4. For comparison a bare node:http server in its own process answering a constant JSON.
+ * 4. The bare endpoints, each answering a constant JSON: the app's own `/livez` (same server,
+ *    same hooks, no session, no database) — the one the goal compares with — and, for scale, a
+ *    plain node:http server in a process of its own.
  * 5. autocannon, 50 connections (BENCH_CONNECTIONS), 10 s each (BENCH_SECONDS) after a 2 s
- *    warm-up, bare first, then the board. Latency percentiles are computed from every
+ *    warm-up, one target after another. Latency percentiles are computed from every
  *    response's own time (autocannon's summary has no p95 and rounds to whole ms).
  * Figures go to the console and bench/out/fleet.json. The bench database is dropped at the end
  * unless BENCH_KEEP_DB=1.
@@ -261,63 +265,76 @@ async function main(): Promise<void> {
 		console.log(`fleet bench: built in ${((Date.now() - t) / 1000).toFixed(0)} s`);
 	}
 
+	// One secret for both servers, so the one sign-in's cookie is good on either.
+	const authSecret = randomBytes(32).toString('hex');
+	const serverEnv = (port: number, origin: string, extra: NodeJS.ProcessEnv = {}) => ({
+		...process.env,
+		NODE_ENV: 'production',
+		HOST: '127.0.0.1',
+		PORT: String(port),
+		ORIGIN: origin,
+		DATABASE_URL: dbUrl,
+		AUTH_SECRET: authSecret,
+		AUTH_TRUST_HOST: 'true',
+		...extra
+	});
 	const appPort = await freePort();
 	const origin = `http://127.0.0.1:${appPort}`;
+	startProcess(['build'], serverEnv(appPort, origin), 'production server');
+	const uncachedPort = await freePort();
+	const uncachedOrigin = `http://127.0.0.1:${uncachedPort}`;
 	startProcess(
 		['build'],
-		{
-			...process.env,
-			NODE_ENV: 'production',
-			HOST: '127.0.0.1',
-			PORT: String(appPort),
-			ORIGIN: origin,
-			DATABASE_URL: dbUrl,
-			AUTH_SECRET: randomBytes(32).toString('hex'),
-			AUTH_TRUST_HOST: 'true'
-		},
-		'production server'
+		serverEnv(uncachedPort, uncachedOrigin, { FLEET_BOARD_CACHE: 'off' }),
+		'production server, board cache off'
 	);
 	const barePort = await freePort();
 	startProcess(['-e', BARE_SERVER], { PATH: process.env.PATH, PORT: String(barePort) }, 'bare');
 	await waitFor(`${origin}/healthz`);
+	await waitFor(`${uncachedOrigin}/healthz`);
 	await waitFor(`http://127.0.0.1:${barePort}/`);
 
 	const cookie = await signIn(origin);
-	const api = `${origin}/api/v1/shops/${SHOP_SLUG}/fleet`;
-	const check = await fetch(api, { headers: { cookie } });
-	const board = (await check.json()) as { machines?: unknown[] };
-	if (check.status !== 200 || board.machines?.length !== SCALE.machines)
-		throw new Error(
-			`the board API answered ${check.status} with ${board.machines?.length} machines`
-		);
-	const bare = `http://127.0.0.1:${barePort}/`;
+	const boardPath = `/api/v1/shops/${SHOP_SLUG}/fleet`;
+	for (const o of [origin, uncachedOrigin]) {
+		const check = await fetch(o + boardPath, { headers: { cookie } });
+		const board = (await check.json()) as { machines?: unknown[] };
+		if (check.status !== 200 || board.machines?.length !== SCALE.machines)
+			throw new Error(
+				`the board API at ${o} answered ${check.status} with ${board.machines?.length} machines`
+			);
+	}
 
 	console.log(
 		`fleet bench: node ${process.version}, ${cpus().length} × ${cpus()[0]?.model ?? 'cpu'}, ` +
 			`${CONNECTIONS} connections, ${SECONDS} s each after ${WARMUP_SECONDS} s warm-up; load average before: ${la()}`
 	);
 	const loadBefore = loadavg();
-	await load('warm-up', bare, {}, WARMUP_SECONDS);
-	const bareFigures = await load('bare constant JSON', bare, {}, SECONDS);
-	await load('warm-up', api, { cookie }, WARMUP_SECONDS);
-	const boardFigures = await load('board API (200 machines)', api, { cookie }, SECONDS);
+	const run = async (name: string, url: string, headers: Record<string, string> = {}) => {
+		await load('warm-up', url, headers, WARMUP_SECONDS);
+		return load(name, url, headers, SECONDS);
+	};
+	const nodeBare = await run('bare node:http (reference)', `http://127.0.0.1:${barePort}/`);
+	const appBare = await run('bare app endpoint /livez', `${origin}/livez`);
+	const boardFigures = await run('board API (200 machines)', origin + boardPath, { cookie });
+	const uncached = await run('board API, cache off', uncachedOrigin + boardPath, { cookie });
 	const loadAfter = loadavg();
 
-	for (const f of [bareFigures, boardFigures]) {
+	for (const f of [nodeBare, appBare, boardFigures, uncached]) {
 		console.log(
-			`${f.name.padEnd(26)} ${String(f.requestsPerSecond).padStart(6)} req/s  ` +
+			`${f.name.padEnd(28)} ${String(f.requestsPerSecond).padStart(6)} req/s  ` +
 				`p50 ${f.p50} ms  p95 ${f.p95} ms  p99 ${f.p99} ms  max ${f.max} ms  ` +
 				`(${f.requests} responses, ${f.bytesPerResponse} B each, non-2xx ${f.non2xx}, errors ${f.errors}, timeouts ${f.timeouts})`
 		);
 	}
-	const share = boardFigures.requestsPerSecond / bareFigures.requestsPerSecond;
+	const share = boardFigures.requestsPerSecond / appBare.requestsPerSecond;
 	const goals = {
 		p95Under50ms: boardFigures.p95 < 50,
 		atLeastHalfBareThroughput: share >= 0.5
 	};
 	console.log(
 		`goals: board p95 < 50 ms: ${goals.p95Under50ms ? 'met' : 'NOT met'} (${boardFigures.p95} ms); ` +
-			`≥ half the bare throughput: ${goals.atLeastHalfBareThroughput ? 'met' : 'NOT met'} (${(share * 100).toFixed(1)} %)`
+			`≥ half the bare app endpoint's throughput: ${goals.atLeastHalfBareThroughput ? 'met' : 'NOT met'} (${(share * 100).toFixed(1)} %)`
 	);
 	console.log(`load average after: ${la()}`);
 	mkdirSync(outDir, { recursive: true });
@@ -331,8 +348,10 @@ async function main(): Promise<void> {
 				seconds: SECONDS,
 				loadavgBefore: loadBefore,
 				loadavgAfter: loadAfter,
-				bare: bareFigures,
+				bareNode: nodeBare,
+				bareApp: appBare,
 				board: boardFigures,
+				boardCacheOff: uncached,
 				throughputShare: share,
 				goals
 			},

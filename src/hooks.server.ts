@@ -1,21 +1,45 @@
 import type { Handle } from '@sveltejs/kit';
 import { sequence } from '@sveltejs/kit/hooks';
 import { handle as authHandle } from './auth';
+import { createSessionCache, sessionKey, type SignedInUser } from '$lib/server/auth/session-cache';
 import { db } from '$lib/server/db';
+import { changeFeed } from '$lib/server/db/change-feed';
+import type { FeedCache } from '$lib/server/db/feed-cache';
 import { findUserById } from '$lib/server/users';
+
+let sessions: FeedCache<SignedInUser> | undefined;
 
 /**
  * Fills `locals.user` from the Auth.js session, re-reading the user so a deleted account's
- * cookie stops working at once. Access to shops is decided per load/action/endpoint by the
- * guard in $lib/server/guard (a layout-only check would be skipped on client navigation).
+ * cookie stops working at once. The answer is kept for a minute per session cookie
+ * ($lib/server/auth/session-cache.ts: dropped when the user's row changes), which spares
+ * most requests Auth.js's decryption; Auth.js re-issues the cookie (rolling expiry) on the
+ * requests that do go through it. Access to shops is decided per load/action/endpoint by the
+ * guard in $lib/server/guard, always from the database (a layout-only check would be skipped
+ * on client navigation).
  */
 const loadUser: Handle = async ({ event, resolve }) => {
 	event.locals.user = null;
+	const key = sessionKey(event.cookies.getAll());
+	if (key) {
+		sessions ??= createSessionCache(changeFeed());
+		const cached = sessions.get(key);
+		if (cached) {
+			event.locals.user = cached;
+			return resolve(event);
+		}
+	}
+	const version = sessions?.version ?? 0;
 	const session = await event.locals.auth();
 	const id = Number(session?.user?.id);
 	if (Number.isSafeInteger(id) && id > 0) {
 		const user = await findUserById(db(), id);
-		if (user) event.locals.user = { id: user.id, email: user.email, name: user.name };
+		if (user) {
+			event.locals.user = { id: user.id, email: user.email, name: user.name };
+			// Under the cookie that came in and under the one Auth.js just re-issued (if any).
+			const renewed = sessionKey(event.cookies.getAll());
+			for (const k of new Set([key, renewed])) if (k) sessions?.set(k, event.locals.user, version);
+		}
 	}
 	return resolve(event);
 };

@@ -16,6 +16,7 @@ import * as m0014 from './20261202040200_create_program_checks';
 import * as m0015 from './20261203080000_allow_recording_gauge_line_z';
 import * as m0016 from './20261203085000_add_machine_photo';
 import * as m0017 from './20261203090000_create_current_offsets';
+import * as m0018 from './20261204090000_notify_board_changes';
 
 /**
  * The migrations every shop schema gets, in order. Schema-agnostic: they run with the search
@@ -39,5 +40,6 @@ export const shopMigrations: Record<string, Knex.Migration> = {
 	'20261202040200_create_program_checks': m0014,
 	'20261203080000_allow_recording_gauge_line_z': m0015,
 	'20261203085000_add_machine_photo': m0016,
-	'20261203090000_create_current_offsets': m0017
+	'20261203090000_create_current_offsets': m0017,
+	'20261204090000_notify_board_changes': m0018
 };

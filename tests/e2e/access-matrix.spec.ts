@@ -139,6 +139,7 @@ function fill(id: string, shop: string): string {
 const OTHER_ROUTES: Record<string, { path: string; status: number }> = {
 	'/': { path: '/', status: 200 },
 	'/healthz': { path: '/healthz', status: 200 },
+	'/livez': { path: '/livez', status: 200 },
 	// Stripe's webhook: POST only, authenticated by its signature (tests/e2e/billing.spec.ts).
 	'/api/v1/stripe/webhook': { path: '/api/v1/stripe/webhook', status: 405 },
 	'/signin': { path: '/signin', status: 303 },

@@ -1,6 +1,13 @@
 import { error, redirect, type RequestEvent } from '@sveltejs/kit';
 import { can, type Capability, type Role } from '$lib/permissions';
 import { db } from './db';
+import { changeFeed } from './db/change-feed';
+import type { FeedCache } from './db/feed-cache';
+import {
+	createMembershipCache,
+	membershipKey,
+	type CachedMembership
+} from './shops/membership-cache';
 import { findMembership, type ShopRow } from './shops/queries';
 
 export interface Member {
@@ -21,6 +28,26 @@ export function requireUser(event: RequestEvent): NonNullable<App.Locals['user']
 	return user;
 }
 
+let memberships: FeedCache<CachedMembership> | undefined;
+
+/**
+ * The membership behind a request. Reads (GET, HEAD) may use the membership cache, which every
+ * committed change to memberships or shops empties ($lib/server/shops/membership-cache.ts);
+ * anything that can write (form actions, POST/PUT/PATCH/DELETE) reads the database.
+ */
+async function membershipFor(event: RequestEvent, userId: number, slug: string) {
+	const read = event.request.method === 'GET' || event.request.method === 'HEAD';
+	if (!read) return findMembership(db(), userId, slug);
+	memberships ??= createMembershipCache(changeFeed());
+	const key = membershipKey(userId, slug);
+	const cached = memberships.get(key);
+	if (cached !== undefined) return cached ?? undefined;
+	const version = memberships.version;
+	const found = await findMembership(db(), userId, slug);
+	memberships.set(key, found ?? null, version);
+	return found;
+}
+
 /**
  * The one guard for shop data: every load, form action and API route under a shop calls it.
  * Not a member (or no such shop) → 404, so a shop's existence is not revealed; a member whose
@@ -33,7 +60,7 @@ export async function requireMember(
 	const user = requireUser(event);
 	const slug = event.params.shop;
 	if (!slug) error(404, 'Not found');
-	const membership = await findMembership(db(), user.id, slug);
+	const membership = await membershipFor(event, user.id, slug);
 	if (!membership) error(404, 'Not found');
 	if (!can(membership.role, capability)) {
 		error(403, 'Your role in this shop does not allow this.');

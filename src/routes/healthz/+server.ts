@@ -16,7 +16,7 @@ async function probe(fn: () => Promise<unknown>): Promise<{ ok: boolean; error?:
 	}
 }
 
-/** Liveness for people and monitors: database and Redis reachable. 503 when either is not. */
+/** Readiness for people and monitors: database and Redis reachable. 503 when either is not. */
 export const GET: RequestHandler = async () => {
 	const [database, redisStatus] = await Promise.all([
 		probe(() => db().raw('select 1')),

@@ -1,12 +1,16 @@
-import { json } from '@sveltejs/kit';
-import { withShop } from '$lib/server/db/tenant';
-import { fleetBoard } from '$lib/server/fleet/board';
+import { fleetBoardJson } from '$lib/server/fleet/board-json';
 import { requireMember } from '$lib/server/guard';
 import type { RequestHandler } from './$types';
 
-/** The fleet board as JSON (polled by the board page): a fixed handful of queries per call. */
+/**
+ * The fleet board as JSON (polled by the board page). Access is checked against the database on
+ * every call; the board itself comes from the board cache, which drops a shop's board on every
+ * committed change to what it reads ($lib/server/fleet/board-cache.ts).
+ */
 export const GET: RequestHandler = async (event) => {
 	const { shop } = await requireMember(event, 'findings.read');
-	const board = await withShop(shop, (trx) => fleetBoard(trx));
-	return json(board, { headers: { 'cache-control': 'no-store' } });
+	const body = await fleetBoardJson(shop);
+	return new Response(body, {
+		headers: { 'content-type': 'application/json', 'cache-control': 'no-store' }
+	});
 };
