@@ -3,7 +3,7 @@ import { sequence } from '@sveltejs/kit/hooks';
 import { handle as authHandle } from './auth';
 import { createSessionCache, sessionKey, type SignedInUser } from '$lib/server/auth/session-cache';
 import { db } from '$lib/server/db';
-import { changeFeed } from '$lib/server/db/change-feed';
+import { changeFeed, startedChangeFeed } from '$lib/server/db/change-feed';
 import type { FeedCache } from '$lib/server/db/feed-cache';
 import { findUserById } from '$lib/server/users';
 
@@ -44,6 +44,19 @@ const loadUser: Handle = async ({ event, resolve }) => {
 	return resolve(event);
 };
 
+/**
+ * After a request that may have written (anything but GET and HEAD), waits until this
+ * process's caches have heard of every change committed so far (a millisecond or so), so the
+ * user's next request sees their own change: a role they just gave, a finding they just
+ * acknowledged.
+ */
+const ownWritesVisible: Handle = async ({ event, resolve }) => {
+	const response = await resolve(event);
+	const method = event.request.method;
+	if (method !== 'GET' && method !== 'HEAD') await startedChangeFeed()?.sync();
+	return response;
+};
+
 const securityHeaders: Handle = async ({ event, resolve }) => {
 	const response = await resolve(event);
 	response.headers.set('X-Content-Type-Options', 'nosniff');
@@ -52,4 +65,4 @@ const securityHeaders: Handle = async ({ event, resolve }) => {
 	return response;
 };
 
-export const handle = sequence(authHandle, loadUser, securityHeaders);
+export const handle = sequence(authHandle, loadUser, ownWritesVisible, securityHeaders);

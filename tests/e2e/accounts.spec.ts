@@ -55,6 +55,18 @@ test('the owner invites an operator, who accepts from the e-mail and sees only w
 	// The link is single-use.
 	await p2.goto(new URL(link).pathname);
 	await expect(p2.getByRole('alert')).toContainText('already been accepted');
+
+	// A role change and a removal hold on the member's very next request (the server keeps
+	// who-may-see-what in memory between changes; a change must reach it at once).
+	await page.reload();
+	const row = page.getByTestId('members-table').locator('tr', { hasText: invitee });
+	await row.getByLabel(/^Role of /).selectOption('admin');
+	await row.getByRole('button', { name: 'Change' }).click();
+	await expect(row.getByLabel(/^Role of /)).toHaveValue('admin');
+	expect((await p2.goto('/shops/fernhill-precision/members'))?.status()).toBe(200);
+	await row.getByRole('button', { name: /^Remove / }).click();
+	await expect(page.getByTestId('members-table')).not.toContainText(invitee);
+	expect((await p2.goto('/shops/fernhill-precision'))?.status()).toBe(404);
 	await ctx.close();
 });
 

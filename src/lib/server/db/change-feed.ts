@@ -1,3 +1,4 @@
+import { randomUUID } from 'node:crypto';
 import pg from 'pg';
 import { config } from '../config';
 
@@ -15,6 +16,14 @@ export interface ChangeFeed {
 	/** True while LISTEN is in place: only then may a cache trust that it hears every change. */
 	readonly live: boolean;
 	subscribe(fn: (message: ChangeMessage) => void): () => void;
+	/**
+	 * Resolves once every change committed before the call has reached the subscribers: sends a
+	 * marker through the channel and waits for it (PostgreSQL delivers notifications in commit
+	 * order). The app calls it after each request that may have written, so this instance's
+	 * caches already reflect a user's own change on their next request. If the marker does not
+	 * come back in `timeoutMs`, subscribers get `reset` instead.
+	 */
+	sync(timeoutMs?: number): Promise<void>;
 	stop(): Promise<void>;
 }
 
@@ -34,6 +43,10 @@ export function createChangeFeed(url: string = config.databaseUrl): ChangeFeed {
 	let client: pg.Client | undefined;
 	let retryMs = 500;
 	let timer: ReturnType<typeof setTimeout> | undefined;
+	// Markers of this feed's sync() calls; other processes' markers are ignored.
+	const syncPrefix = `sync:${randomUUID()}:`;
+	let syncSeq = 0;
+	const awaitingSync = new Map<string, () => void>();
 
 	const emit = (m: ChangeMessage) => {
 		for (const fn of subscribers) {
@@ -67,7 +80,9 @@ export function createChangeFeed(url: string = config.databaseUrl): ChangeFeed {
 		c.on('error', () => lose(c));
 		c.on('end', () => lose(c));
 		c.on('notification', (n) => {
-			if (n.channel === CHANGE_CHANNEL && n.payload) emit({ kind: 'change', payload: n.payload });
+			if (n.channel !== CHANGE_CHANNEL || !n.payload) return;
+			if (n.payload.startsWith('sync:')) return awaitingSync.get(n.payload)?.();
+			emit({ kind: 'change', payload: n.payload });
 		});
 		try {
 			await c.connect();
@@ -91,6 +106,20 @@ export function createChangeFeed(url: string = config.databaseUrl): ChangeFeed {
 		subscribe(fn) {
 			subscribers.add(fn);
 			return () => subscribers.delete(fn);
+		},
+		async sync(timeoutMs = 1000) {
+			const c = client;
+			if (!live || !c) return;
+			const marker = `${syncPrefix}${++syncSeq}`;
+			let timeout: ReturnType<typeof setTimeout> | undefined;
+			const arrived = await new Promise<boolean>((resolve) => {
+				awaitingSync.set(marker, () => resolve(true));
+				timeout = setTimeout(() => resolve(false), timeoutMs);
+				c.query('select pg_notify($1, $2)', [CHANGE_CHANNEL, marker]).catch(() => resolve(false));
+			});
+			clearTimeout(timeout);
+			awaitingSync.delete(marker);
+			if (!arrived) emit({ kind: 'reset' });
 		},
 		async stop() {
 			stopped = true;
@@ -119,6 +148,11 @@ export function changeFeed(): ChangeFeed {
 	const g = globalThis as Holder;
 	g[KEY] ??= createChangeFeed();
 	return g[KEY];
+}
+
+/** The process's change feed if something has started it (nothing to wait for otherwise). */
+export function startedChangeFeed(): ChangeFeed | undefined {
+	return (globalThis as Holder)[KEY];
 }
 
 export async function stopChangeFeed(): Promise<void> {

@@ -28,7 +28,7 @@ export function createFeedCache<V>(options: {
 }): FeedCache<V> {
 	const { feed, ttlMs, drops } = options;
 	const maxEntries = options.maxEntries ?? 10_000;
-	const now = options.now ?? Date.now;
+	const now = options.now ?? (() => Date.now());
 	const entries = new Map<string, { value: V; expiresAt: number }>();
 	let version = 0;
 

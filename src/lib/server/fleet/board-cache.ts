@@ -44,7 +44,7 @@ interface Entry {
 export function createBoardCache(options: BoardCacheOptions): BoardCache {
 	const { feed } = options;
 	const maxAgeMs = options.maxAgeMs ?? 5_000;
-	const now = options.now ?? Date.now;
+	const now = options.now ?? (() => Date.now());
 	const entries = new Map<string, Entry>();
 	const generations = new Map<string, number>();
 	const building = new Map<
