@@ -95,3 +95,20 @@ test('an operator sees the board and findings read-only', async ({ page }) => {
 	await expect(page.getByTestId('digest-setting')).toHaveCount(0);
 	await page.screenshot({ path: `${shots}/findings-operator.png`, fullPage: true });
 });
+
+test('the board API sends the same board gzipped to a browser and plain to a client without gzip', async () => {
+	const lead = await signedInClient(FERNHILL.lead);
+	const api = `/api/v1/shops/${FERNHILL.slug}/fleet`;
+	const zipped = await lead.get(api, { headers: { 'accept-encoding': 'gzip, deflate, br' } });
+	const plain = await lead.get(api, { headers: { 'accept-encoding': 'identity' } });
+	expect(zipped.status()).toBe(200);
+	expect(plain.status()).toBe(200);
+	expect(zipped.headers()['content-encoding']).toBe('gzip');
+	expect(plain.headers()['content-encoding']).toBeUndefined();
+	expect(zipped.headers()['vary']).toMatch(/accept-encoding/i);
+	const a = await zipped.json();
+	const b = await plain.json();
+	expect(a.machines.map((m: { name: string }) => m.name)).toContain('Mill 1');
+	expect(a).toEqual(b);
+	await lead.dispose();
+});

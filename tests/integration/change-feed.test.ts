@@ -5,8 +5,7 @@ import { createChangeFeed, type ChangeFeed, type ChangeMessage } from '$lib/serv
 import { withShop } from '$lib/server/db/tenant';
 import { fleetBoard } from '$lib/server/fleet/board';
 import { createBoardCache } from '$lib/server/fleet/board-cache';
-import { provisionShop } from '$lib/server/shops/provision';
-import type { ShopRow } from '$lib/server/shops/queries';
+import { provisionShop, type ProvisionedShop } from '$lib/server/shops/provision';
 import { BOARD_TABLES } from '$migrations/shop/20261204090000_notify_board_changes';
 import { testDb, uniqueSuffix } from './db';
 
@@ -19,7 +18,7 @@ import { testDb, uniqueSuffix } from './db';
 const knex: Knex = testDb();
 const appName = `change-feed-test-${uniqueSuffix()}`;
 let feed: ChangeFeed;
-let shop: ShopRow;
+let shop: ProvisionedShop;
 const heard: ChangeMessage[] = [];
 
 const until = async (what: string, ok: () => boolean, ms = 5000) => {
@@ -154,7 +153,7 @@ describe('change notifications (real PostgreSQL)', () => {
 
 describe('board cache on the change feed (real PostgreSQL)', () => {
 	it('serves the stored board until a finding is added, then the board with it', async () => {
-		const cache = createBoardCache({ feed });
+		const cache = createBoardCache<Uint8Array<ArrayBuffer>>({ feed });
 		let builds = 0;
 		const build = async () => {
 			builds++;

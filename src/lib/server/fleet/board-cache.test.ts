@@ -1,6 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { manualChangeFeed } from '../db/change-feed.fake';
-import { createBoardCache, type BoardBytes } from './board-cache';
+import { createBoardCache } from './board-cache';
+
+type BoardBytes = Uint8Array<ArrayBuffer>;
 
 const bytes = (s: string): BoardBytes => new TextEncoder().encode(s);
 const text = (b: BoardBytes) => new TextDecoder().decode(b);
@@ -26,7 +28,7 @@ function builds(prefix: string) {
 describe('createBoardCache', () => {
 	it('serves the stored board until a change to that shop, then builds anew', async () => {
 		const feed = manualChangeFeed();
-		const cache = createBoardCache({ feed });
+		const cache = createBoardCache<BoardBytes>({ feed });
 		const a = builds('A');
 		const b = builds('B');
 		expect(text(await cache.get('shop_1', a.now))).toBe('A1');
@@ -42,7 +44,7 @@ describe('createBoardCache', () => {
 
 	it('does not keep a board that a change committed during its build made stale', async () => {
 		const feed = manualChangeFeed();
-		const cache = createBoardCache({ feed });
+		const cache = createBoardCache<BoardBytes>({ feed });
 		const a = builds('A');
 		const first = cache.get('shop_1', a.later);
 		feed.change('board:shop_1'); // committed after the build's snapshot
@@ -53,7 +55,7 @@ describe('createBoardCache', () => {
 
 	it('shares one build between requests that miss together', async () => {
 		const feed = manualChangeFeed();
-		const cache = createBoardCache({ feed });
+		const cache = createBoardCache<BoardBytes>({ feed });
 		const a = builds('A');
 		const waiting = [1, 2, 3].map(() => cache.get('shop_1', a.later));
 		a.finish();
@@ -63,7 +65,7 @@ describe('createBoardCache', () => {
 
 	it('serves nothing from memory while the feed is not live, and forgets all on reset', async () => {
 		const feed = manualChangeFeed(false);
-		const cache = createBoardCache({ feed });
+		const cache = createBoardCache<BoardBytes>({ feed });
 		const a = builds('A');
 		await cache.get('shop_1', a.now);
 		await cache.get('shop_1', a.now);
@@ -79,7 +81,7 @@ describe('createBoardCache', () => {
 	it('builds again once the board is older than maxAgeMs (ages depend on the clock)', async () => {
 		const feed = manualChangeFeed();
 		let clock = 0;
-		const cache = createBoardCache({ feed, maxAgeMs: 5000, now: () => clock });
+		const cache = createBoardCache<BoardBytes>({ feed, maxAgeMs: 5000, now: () => clock });
 		const a = builds('A');
 		await cache.get('shop_1', a.now);
 		clock = 4999;
@@ -90,7 +92,7 @@ describe('createBoardCache', () => {
 
 	it('lets a failed build fail its callers and keeps nothing', async () => {
 		const feed = manualChangeFeed();
-		const cache = createBoardCache({ feed });
+		const cache = createBoardCache<BoardBytes>({ feed });
 		await expect(
 			cache.get('shop_1', () => Promise.reject(new Error('database gone')))
 		).rejects.toThrow('database gone');

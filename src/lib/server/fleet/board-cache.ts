@@ -1,8 +1,5 @@
 import type { ChangeFeed, ChangeMessage } from '../db/change-feed';
 
-/** A board as the UTF-8 JSON the API sends. */
-export type BoardBytes = Uint8Array<ArrayBuffer>;
-
 export interface BoardCacheOptions {
 	feed: ChangeFeed;
 	/**
@@ -13,17 +10,17 @@ export interface BoardCacheOptions {
 	now?: () => number;
 }
 
-export interface BoardCache {
+export interface BoardCache<T> {
 	/**
-	 * The shop's board JSON, ready to send: from memory when nothing it reads has changed since
-	 * it was built, else from `build` (which must build exactly that shop's board).
+	 * The shop's board, ready to send: from memory when nothing it reads has changed since it
+	 * was built, else from `build` (which must build exactly that shop's board).
 	 */
-	get(schemaName: string, build: () => Promise<BoardBytes>): Promise<BoardBytes>;
+	get(schemaName: string, build: () => Promise<T>): Promise<T>;
 	readonly size: number;
 }
 
-interface Entry {
-	body: BoardBytes;
+interface Entry<T> {
+	body: T;
 	generation: number;
 	epoch: number;
 	expiresAt: number;
@@ -41,16 +38,13 @@ interface Entry {
  * - while the feed is not live nothing is served from or stored into memory;
  * - concurrent misses for the same shop share one build.
  */
-export function createBoardCache(options: BoardCacheOptions): BoardCache {
+export function createBoardCache<T>(options: BoardCacheOptions): BoardCache<T> {
 	const { feed } = options;
 	const maxAgeMs = options.maxAgeMs ?? 5_000;
 	const now = options.now ?? (() => Date.now());
-	const entries = new Map<string, Entry>();
+	const entries = new Map<string, Entry<T>>();
 	const generations = new Map<string, number>();
-	const building = new Map<
-		string,
-		{ generation: number; epoch: number; body: Promise<BoardBytes> }
-	>();
+	const building = new Map<string, { generation: number; epoch: number; body: Promise<T> }>();
 	let epoch = 0;
 
 	feed.subscribe((m: ChangeMessage) => {
