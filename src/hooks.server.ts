@@ -1,13 +1,17 @@
 import type { Handle } from '@sveltejs/kit';
 import { sequence } from '@sveltejs/kit/hooks';
 import { handle as authHandle } from './auth';
-import { createSessionCache, sessionKey, type SignedInUser } from '$lib/server/auth/session-cache';
+import { createSessionCache, sessionKey } from '$lib/server/auth/session-cache';
 import { db } from '$lib/server/db';
-import { changeFeed, startedChangeFeed } from '$lib/server/db/change-feed';
-import type { FeedCache } from '$lib/server/db/feed-cache';
+import { changeFeed, perProcess, startedChangeFeed } from '$lib/server/db/change-feed';
+import { closeServerResources } from '$lib/server/shutdown';
 import { findUserById } from '$lib/server/users';
 
-let sessions: FeedCache<SignedInUser> | undefined;
+const sessionCache = () => perProcess('sessions', () => createSessionCache(changeFeed()));
+
+// adapter-node's graceful shutdown waits for the event loop to empty: close our connections,
+// or SIGTERM would leave the process running.
+perProcess('shutdown', () => process.once('sveltekit:shutdown', () => void closeServerResources()));
 
 /**
  * Fills `locals.user` from the Auth.js session, re-reading the user so a deleted account's
@@ -15,19 +19,16 @@ let sessions: FeedCache<SignedInUser> | undefined;
  * ($lib/server/auth/session-cache.ts: dropped when the user's row changes), which spares
  * most requests Auth.js's decryption; Auth.js re-issues the cookie (rolling expiry) on the
  * requests that do go through it. Access to shops is decided per load/action/endpoint by the
- * guard in $lib/server/guard, always from the database (a layout-only check would be skipped
- * on client navigation).
+ * guard in $lib/server/guard (a layout-only check would be skipped on client navigation).
  */
 const loadUser: Handle = async ({ event, resolve }) => {
 	event.locals.user = null;
 	const key = sessionKey(event.cookies.getAll());
-	if (key) {
-		sessions ??= createSessionCache(changeFeed());
-		const cached = sessions.get(key);
-		if (cached) {
-			event.locals.user = cached;
-			return resolve(event);
-		}
+	const sessions = key ? sessionCache() : undefined;
+	const cached = key ? sessions?.get(key) : undefined;
+	if (cached) {
+		event.locals.user = { ...cached };
+		return resolve(event);
 	}
 	const version = sessions?.version ?? 0;
 	const session = await event.locals.auth();
@@ -35,10 +36,11 @@ const loadUser: Handle = async ({ event, resolve }) => {
 	if (Number.isSafeInteger(id) && id > 0) {
 		const user = await findUserById(db(), id);
 		if (user) {
-			event.locals.user = { id: user.id, email: user.email, name: user.name };
+			const signedIn = { id: user.id, email: user.email, name: user.name };
+			event.locals.user = { ...signedIn };
 			// Under the cookie that came in and under the one Auth.js just re-issued (if any).
 			const renewed = sessionKey(event.cookies.getAll());
-			for (const k of new Set([key, renewed])) if (k) sessions?.set(k, event.locals.user, version);
+			for (const k of new Set([key, renewed])) if (k) sessions?.set(k, signedIn, version);
 		}
 	}
 	return resolve(event);

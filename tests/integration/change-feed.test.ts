@@ -1,3 +1,4 @@
+import { createServer, Socket, type AddressInfo, type Server } from 'node:net';
 import type { Knex } from 'knex';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { config } from '$lib/server/config';
@@ -133,6 +134,15 @@ describe('change notifications (real PostgreSQL)', () => {
 				new RegExp(`^user:${u.id}$`)
 			)
 		).toEqual([`user:${u.id}`]);
+		// TRUNCATE is not row-level: the triggers that watch it say so by statement.
+		// (information_schema.triggers leaves TRUNCATE out; pg_trigger's type bit 32 is TRUNCATE.)
+		const { rows } = await knex.raw(
+			`select distinct c.relname from pg_trigger t
+			join pg_class c on c.oid = t.tgrelid join pg_namespace n on n.oid = c.relnamespace
+			where n.nspname = 'public' and (t.tgtype & 32) <> 0`
+		);
+		const truncateTriggers = rows.map((r: { relname: string }) => r.relname);
+		expect([...truncateTriggers].sort()).toEqual(['memberships', 'shops', 'users']);
 	});
 
 	it('after losing its connection says reset, is not live, and comes back listening', async () => {
@@ -189,4 +199,74 @@ describe('board cache on the change feed (real PostgreSQL)', () => {
 		expect(builds).toBe(2);
 		expect(after.machines.find((m: { id: number }) => m.id === machine.id).findings.stop).toBe(1);
 	});
+});
+
+/**
+ * A TCP proxy to PostgreSQL that can go silent: connections stay open but nothing passes —
+ * what a dead peer or a broken network path looks like to the client.
+ */
+async function silenceableProxy(target: URL) {
+	let silent = false;
+	const sockets = new Set<Socket>();
+	const server: Server = createServer((client) => {
+		const upstream = new Socket();
+		upstream.connect(Number(target.port || 5432), target.hostname);
+		for (const s of [client, upstream]) {
+			sockets.add(s);
+			s.on('error', () => {});
+			s.on('close', () => sockets.delete(s));
+		}
+		client.on('data', (d) => silent || upstream.write(d));
+		upstream.on('data', (d) => silent || client.write(d));
+		client.on('close', () => upstream.destroy());
+		upstream.on('close', () => client.destroy());
+	});
+	await new Promise<void>((r) => server.listen(0, '127.0.0.1', r));
+	const url = new URL(target.toString());
+	url.hostname = '127.0.0.1';
+	url.port = String((server.address() as AddressInfo).port);
+	url.searchParams.set('application_name', `${appName}-proxied`);
+	return {
+		url: url.toString(),
+		silence: (v: boolean) => (silent = v),
+		close: async () => {
+			for (const s of sockets) s.destroy();
+			await new Promise<void>((r) => server.close(() => r()));
+		}
+	};
+}
+
+describe('a connection that stops delivering (real PostgreSQL behind a proxy)', () => {
+	it('is caught by the heartbeat: reset, not live, then listening again once the path is back', async () => {
+		const proxy = await silenceableProxy(new URL(config.databaseUrl));
+		const quiet = createChangeFeed(proxy.url, {
+			heartbeatMs: 100,
+			heartbeatTimeoutMs: 300,
+			connectTimeoutMs: 500
+		});
+		const got: ChangeMessage[] = [];
+		quiet.subscribe((m) => got.push(m));
+		try {
+			await until('the proxied feed to listen', () => quiet.live);
+			got.length = 0;
+			proxy.silence(true);
+			await until(
+				'the heartbeat to notice',
+				() => !quiet.live && got.some((m) => m.kind === 'reset')
+			);
+			// sync() on a feed that is not live returns at once instead of waiting.
+			const t = Date.now();
+			await quiet.sync(5000);
+			expect(Date.now() - t).toBeLessThan(100);
+			proxy.silence(false);
+			await until('the proxied feed to listen again', () => quiet.live, 10_000);
+			await withShop(shop, (trx) => trx.raw('delete from setups where false'), knex);
+			await until('a change through the new connection', () =>
+				got.some((m) => m.kind === 'change' && m.payload === `board:${shop.schemaName}`)
+			);
+		} finally {
+			await quiet.stop();
+			await proxy.close();
+		}
+	}, 20_000);
 });

@@ -1,13 +1,8 @@
 import { error, redirect, type RequestEvent } from '@sveltejs/kit';
 import { can, type Capability, type Role } from '$lib/permissions';
 import { db } from './db';
-import { changeFeed } from './db/change-feed';
-import type { FeedCache } from './db/feed-cache';
-import {
-	createMembershipCache,
-	membershipKey,
-	type CachedMembership
-} from './shops/membership-cache';
+import { changeFeed, perProcess } from './db/change-feed';
+import { createMembershipCache, membershipKey } from './shops/membership-cache';
 import { findMembership, type ShopRow } from './shops/queries';
 
 export interface Member {
@@ -28,7 +23,7 @@ export function requireUser(event: RequestEvent): NonNullable<App.Locals['user']
 	return user;
 }
 
-let memberships: FeedCache<CachedMembership> | undefined;
+const membershipCache = () => perProcess('memberships', () => createMembershipCache(changeFeed()));
 
 /**
  * The membership behind a request. Reads (GET, HEAD) may use the membership cache, which every
@@ -38,13 +33,15 @@ let memberships: FeedCache<CachedMembership> | undefined;
 async function membershipFor(event: RequestEvent, userId: number, slug: string) {
 	const read = event.request.method === 'GET' || event.request.method === 'HEAD';
 	if (!read) return findMembership(db(), userId, slug);
-	memberships ??= createMembershipCache(changeFeed());
+	const memberships = membershipCache();
 	const key = membershipKey(userId, slug);
 	const cached = memberships.get(key);
-	if (cached !== undefined) return cached ?? undefined;
+	if (cached) return cached;
 	const version = memberships.version;
 	const found = await findMembership(db(), userId, slug);
-	memberships.set(key, found ?? null, version);
+	// Only memberships are kept: "not a member" of any slug a user cares to type would let one
+	// person crowd everyone else out of the cache.
+	if (found) memberships.set(key, found, version);
 	return found;
 }
 
@@ -65,5 +62,5 @@ export async function requireMember(
 	if (!can(membership.role, capability)) {
 		error(403, 'Your role in this shop does not allow this.');
 	}
-	return { user, shop: membership.shop, role: membership.role };
+	return { user, shop: { ...membership.shop }, role: membership.role };
 }

@@ -57,6 +57,8 @@ describe('createSessionCache', () => {
 		expect(cache.get('k3')).toEqual(bo);
 		feed.change('board:shop_1'); // not about users
 		expect(cache.get('k3')).toEqual(bo);
+		feed.change('users'); // the users table was truncated
+		expect(cache.get('k3')).toBeUndefined();
 	});
 
 	it('forgets a session after a minute', () => {

@@ -39,6 +39,7 @@ export function createSessionCache(feed: ChangeFeed, ttlMs = 60_000): FeedCache<
 		feed,
 		ttlMs,
 		drops: (payload) => {
+			if (payload === 'users') return 'all';
 			if (!payload.startsWith('user:')) return null;
 			const id = Number(payload.slice('user:'.length));
 			return (_key, user) => user.id === id;

@@ -21,7 +21,7 @@ export interface ChangeFeed {
 	 * marker through the channel and waits for it (PostgreSQL delivers notifications in commit
 	 * order). The app calls it after each request that may have written, so this instance's
 	 * caches already reflect a user's own change on their next request. If the marker does not
-	 * come back in `timeoutMs`, subscribers get `reset` instead.
+	 * come back in `timeoutMs`, the connection counts as lost (subscribers get `reset`).
 	 */
 	sync(timeoutMs?: number): Promise<void>;
 	stop(): Promise<void>;
@@ -34,9 +34,22 @@ export interface ChangeFeed {
  * change to the data it caches, whichever process made it (app, worker, psql).
  *
  * When the connection drops, the feed is not live and says `reset`; caches then serve nothing
- * from memory until it is back (reconnecting with back-off up to 30 s), and start empty.
+ * from memory until it is back (reconnecting with back-off up to 30 s), and start empty. A
+ * connection that is open but no longer delivers (a dead peer, a pooler that drops LISTEN)
+ * is caught by a heartbeat: every `heartbeatMs` (10 s) a marker goes round the channel, and
+ * one that does not come back within `heartbeatTimeoutMs` (5 s) — like a sync() marker that
+ * does not — counts as a lost connection. Connecting and LISTEN give up after 10 s.
+ *
+ * sync() makes a request's own writes visible to this process's caches; other instances of
+ * the app hear them when the notification reaches them (normally within milliseconds).
  */
-export function createChangeFeed(url: string = config.databaseUrl): ChangeFeed {
+export function createChangeFeed(
+	url: string = config.databaseUrl,
+	options: { heartbeatMs?: number; heartbeatTimeoutMs?: number; connectTimeoutMs?: number } = {}
+): ChangeFeed {
+	const heartbeatMs = options.heartbeatMs ?? 10_000;
+	const heartbeatTimeoutMs = options.heartbeatTimeoutMs ?? 5_000;
+	const connectTimeoutMs = options.connectTimeoutMs ?? 10_000;
 	const subscribers = new Set<(m: ChangeMessage) => void>();
 	let live = false;
 	let stopped = false;
@@ -58,6 +71,27 @@ export function createChangeFeed(url: string = config.databaseUrl): ChangeFeed {
 		}
 	};
 
+	/** Sends a marker through the channel on `c`; true when it came back within `timeoutMs`. */
+	const roundTrip = async (c: pg.Client, timeoutMs: number): Promise<boolean> => {
+		const marker = `${syncPrefix}${++syncSeq}`;
+		let timeout: ReturnType<typeof setTimeout> | undefined;
+		const arrived = await new Promise<boolean>((resolve) => {
+			awaitingSync.set(marker, () => resolve(true));
+			timeout = setTimeout(() => resolve(false), timeoutMs);
+			c.query('select pg_notify($1, $2)', [CHANGE_CHANNEL, marker]).catch(() => resolve(false));
+		});
+		clearTimeout(timeout);
+		awaitingSync.delete(marker);
+		return arrived;
+	};
+
+	const heartbeat = setInterval(async () => {
+		const c = client;
+		if (!live || !c) return;
+		if (!(await roundTrip(c, heartbeatTimeoutMs))) lose(c);
+	}, heartbeatMs);
+	heartbeat.unref?.();
+
 	const lose = (c: pg.Client) => {
 		if (client !== c) return;
 		client = undefined;
@@ -75,7 +109,14 @@ export function createChangeFeed(url: string = config.databaseUrl): ChangeFeed {
 	async function connect(): Promise<void> {
 		timer = undefined;
 		if (stopped) return;
-		const c = new pg.Client({ connectionString: url, keepAlive: true });
+		const c = new pg.Client({
+			connectionString: url,
+			keepAlive: true,
+			keepAliveInitialDelayMillis: 10_000,
+			// A server that accepts the connection and then says nothing must not stall the feed.
+			connectionTimeoutMillis: connectTimeoutMs,
+			query_timeout: connectTimeoutMs
+		});
 		client = c;
 		c.on('error', () => lose(c));
 		c.on('end', () => lose(c));
@@ -110,19 +151,12 @@ export function createChangeFeed(url: string = config.databaseUrl): ChangeFeed {
 		async sync(timeoutMs = 1000) {
 			const c = client;
 			if (!live || !c) return;
-			const marker = `${syncPrefix}${++syncSeq}`;
-			let timeout: ReturnType<typeof setTimeout> | undefined;
-			const arrived = await new Promise<boolean>((resolve) => {
-				awaitingSync.set(marker, () => resolve(true));
-				timeout = setTimeout(() => resolve(false), timeoutMs);
-				c.query('select pg_notify($1, $2)', [CHANGE_CHANNEL, marker]).catch(() => resolve(false));
-			});
-			clearTimeout(timeout);
-			awaitingSync.delete(marker);
-			if (!arrived) emit({ kind: 'reset' });
+			// A marker that does not come back means the connection no longer delivers.
+			if (!(await roundTrip(c, timeoutMs))) lose(c);
 		},
 		async stop() {
 			stopped = true;
+			clearInterval(heartbeat);
 			if (timer) clearTimeout(timer);
 			const c = client;
 			client = undefined;
@@ -137,27 +171,35 @@ export function createChangeFeed(url: string = config.databaseUrl): ChangeFeed {
 	};
 }
 
-const KEY = Symbol.for('datumkeep.changeFeed');
-type Holder = { [KEY]?: ChangeFeed };
+const KEY = Symbol.for('datumkeep.perProcess');
+type Holder = { [KEY]?: Map<string, unknown> };
+const perProcessValues = () => ((globalThis as Holder)[KEY] ??= new Map());
 
 /**
- * The process's change feed, started on first use. Kept on globalThis so Vite's module reloads
- * in development do not open a second LISTEN connection.
+ * One `make()` per process under `name`, kept on globalThis: Vite's module reloads in
+ * development re-run module code, and must not open a second LISTEN connection or leave an
+ * old cache subscribed to the feed.
  */
+export function perProcess<T>(name: string, make: () => T): T {
+	const values = perProcessValues();
+	if (!values.has(name)) values.set(name, make());
+	return values.get(name) as T;
+}
+
+/** The process's change feed, started on first use. */
 export function changeFeed(): ChangeFeed {
-	const g = globalThis as Holder;
-	g[KEY] ??= createChangeFeed();
-	return g[KEY];
+	return perProcess('changeFeed', () => createChangeFeed());
 }
 
 /** The process's change feed if something has started it (nothing to wait for otherwise). */
 export function startedChangeFeed(): ChangeFeed | undefined {
-	return (globalThis as Holder)[KEY];
+	return perProcessValues().get('changeFeed') as ChangeFeed | undefined;
 }
 
+/** Stops the feed and forgets every per-process cache built on it (shutdown). */
 export async function stopChangeFeed(): Promise<void> {
-	const g = globalThis as Holder;
-	const feed = g[KEY];
-	g[KEY] = undefined;
+	const values = perProcessValues();
+	const feed = values.get('changeFeed') as ChangeFeed | undefined;
+	values.clear();
 	await feed?.stop();
 }

@@ -1,9 +1,9 @@
 import { promisify } from 'node:util';
 import { gzip } from 'node:zlib';
-import { changeFeed } from '../db/change-feed';
+import { changeFeed, perProcess } from '../db/change-feed';
 import { withShop, type ShopRef } from '../db/tenant';
 import { fleetBoard } from './board';
-import { createBoardCache, type BoardCache } from './board-cache';
+import { createBoardCache } from './board-cache';
 
 type Bytes = Uint8Array<ArrayBuffer>;
 
@@ -13,7 +13,6 @@ export interface PreparedBoard {
 	gzip: Bytes;
 }
 
-let cache: BoardCache<PreparedBoard> | undefined;
 const utf8 = new TextEncoder();
 const gzipAsync = promisify(gzip);
 
@@ -35,6 +34,8 @@ export function preparedFleetBoard(shop: ShopRef): Promise<PreparedBoard> {
 		};
 	};
 	if (process.env.FLEET_BOARD_CACHE === 'off') return build();
-	cache ??= createBoardCache<PreparedBoard>({ feed: changeFeed() });
+	const cache = perProcess('fleetBoards', () =>
+		createBoardCache<PreparedBoard>({ feed: changeFeed() })
+	);
 	return cache.get(shop.schemaName, build);
 }

@@ -8,13 +8,25 @@ export const PROGRAM_CHECK_QUEUE = 'program-check';
 const ENQUEUE_TIMEOUT_MS = 3_000;
 
 let queue: Queue<ProgramCheckJob> | undefined;
+let queueRedis: ReturnType<typeof producerConnection> | undefined;
 
 function programQueue(): Queue<ProgramCheckJob> {
-	queue ??= new Queue<ProgramCheckJob>(PROGRAM_CHECK_QUEUE, {
-		connection: producerConnection(),
-		prefix: QUEUE_PREFIX
-	});
+	if (!queue) {
+		queueRedis = producerConnection();
+		queue = new Queue<ProgramCheckJob>(PROGRAM_CHECK_QUEUE, {
+			connection: queueRedis,
+			prefix: QUEUE_PREFIX
+		});
+	}
 	return queue;
+}
+
+/** Closes the program-check producer and its Redis connection (server shutdown). */
+export async function closeProgramQueue(): Promise<void> {
+	const [q, r] = [queue, queueRedis];
+	queue = queueRedis = undefined;
+	await q?.close().catch(() => {});
+	r?.disconnect();
 }
 
 /** Job options: retried with backoff, finished jobs removed (BullMQ guidance). */

@@ -81,6 +81,7 @@ export async function syncSchedules(
 }
 
 let producer: Queue<ShopCheckData, unknown, string> | undefined;
+let producerRedis: ReturnType<typeof producerConnection> | undefined;
 
 /**
  * The app's producer: fails fast when Redis is down (no offline queue), so "Check now" can say
@@ -91,10 +92,19 @@ export function appQueue(): Queue<ShopCheckData, unknown, string> {
 		const connection = producerConnection();
 		// Outages are reported to the user by the action; ioredis would otherwise log each retry.
 		connection.on('error', () => {});
+		producerRedis = connection;
 		producer = shopChecksQueue(connection);
 		producer.on('error', () => {});
 	}
 	return producer;
+}
+
+/** Closes the app's producer and its Redis connection (server shutdown). */
+export async function closeAppQueue(): Promise<void> {
+	const [q, r] = [producer, producerRedis];
+	producer = producerRedis = undefined;
+	await q?.close().catch(() => {});
+	r?.disconnect();
 }
 
 export class ChecksPausedError extends Error {

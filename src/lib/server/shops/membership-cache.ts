@@ -2,9 +2,6 @@ import type { ChangeFeed } from '../db/change-feed';
 import { createFeedCache, type FeedCache } from '../db/feed-cache';
 import type { MembershipView } from './queries';
 
-/** A membership looked up, or `null` for "not a member / no such shop" (also worth keeping). */
-export type CachedMembership = MembershipView | null;
-
 export const membershipKey = (userId: number, slug: string) => `${userId}\u0000${slug}`;
 
 /**
@@ -15,11 +12,8 @@ export const membershipKey = (userId: number, slug: string) => `${userId}\u0000$
  * at most 30 s besides. Form actions and other writes never use it: they read the membership
  * from the database (src/lib/server/guard.ts).
  */
-export function createMembershipCache(
-	feed: ChangeFeed,
-	ttlMs = 30_000
-): FeedCache<CachedMembership> {
-	return createFeedCache<CachedMembership>({
+export function createMembershipCache(feed: ChangeFeed, ttlMs = 30_000): FeedCache<MembershipView> {
+	return createFeedCache<MembershipView>({
 		feed,
 		ttlMs,
 		drops: (payload) => (payload === 'memberships' ? 'all' : null)
