@@ -30,6 +30,8 @@ const loadUser: Handle = async ({ event, resolve }) => {
 		event.locals.user = { ...cached };
 		return resolve(event);
 	}
+	// No session cookie, no session (JWT sessions live only in that cookie): spare Auth.js.
+	if (!key) return resolve(event);
 	const version = sessions?.version ?? 0;
 	const session = await event.locals.auth();
 	const id = Number(session?.user?.id);
