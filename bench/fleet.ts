@@ -18,7 +18,8 @@
  *    same hooks, no session, no database) — the one the goal compares with — and, for scale, a
  *    plain node:http server in a process of its own.
  * 5. autocannon, 50 connections (BENCH_CONNECTIONS), 10 s each (BENCH_SECONDS) after a 2 s
- *    warm-up, one target after another. Latency percentiles are computed from every
+ *    warm-up, one target after another (the board also for a client that does not take gzip,
+ *    and from the server with the cache off). Latency percentiles are computed from every
  *    response's own time (autocannon's summary has no p95 and rounds to whole ms).
  * Figures go to the console and bench/out/fleet.json. The bench database is dropped at the end
  * unless BENCH_KEEP_DB=1.
@@ -322,10 +323,14 @@ async function main(): Promise<void> {
 	const nodeBare = await run('bare node:http (reference)', `http://127.0.0.1:${barePort}/`);
 	const appBare = await run('bare app endpoint /livez', `${origin}/livez`);
 	const boardFigures = await run('board API (200 machines)', origin + boardPath, { cookie });
+	const plain = await run('board API, no gzip', origin + boardPath, {
+		cookie,
+		'accept-encoding': 'identity'
+	});
 	const uncached = await run('board API, cache off', uncachedOrigin + boardPath, { cookie });
 	const loadAfter = loadavg();
 
-	for (const f of [nodeBare, appBare, boardFigures, uncached]) {
+	for (const f of [nodeBare, appBare, boardFigures, plain, uncached]) {
 		console.log(
 			`${f.name.padEnd(28)} ${String(f.requestsPerSecond).padStart(6)} req/s  ` +
 				`p50 ${f.p50} ms  p95 ${f.p95} ms  p99 ${f.p99} ms  max ${f.max} ms  ` +
@@ -356,6 +361,7 @@ async function main(): Promise<void> {
 				bareNode: nodeBare,
 				bareApp: appBare,
 				board: boardFigures,
+				boardNoGzip: plain,
 				boardCacheOff: uncached,
 				throughputShare: share,
 				goals
