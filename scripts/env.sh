@@ -13,6 +13,7 @@ if [ -f "$ROOT/.env" ]; then
 fi
 
 export PORT="${PORT:-5173}"
+export ORIGIN="${ORIGIN:-http://127.0.0.1:$PORT}"
 export DATABASE_URL="${DATABASE_URL:-postgres://postgres@127.0.0.1:54329/datumkeep}"
 export REDIS_URL="${REDIS_URL:-redis://127.0.0.1:63799/0}"
 export FAKE_SES_PORT="${FAKE_SES_PORT:-4579}"
