@@ -165,6 +165,16 @@ export const demoShops: DemoShop[] = [
 						holder: 'CAT40 ER32 collet',
 						stickout: 1.5,
 						touches: [{ daysAgo: 12, z: -15.1029 }]
+					},
+					{
+						// A spare in the rack, not used by the pump housing job: last touched off five
+						// weeks ago, so the checks flag it as past the shop's age limit for tools.
+						t: 6,
+						h: 6,
+						description: '1/8 in ball end mill (spare)',
+						holder: 'CAT40 ER16 collet',
+						stickout: 1.25,
+						touches: [{ daysAgo: 37, z: -15.3318 }]
 					}
 				],
 				setups: [

@@ -14,7 +14,7 @@ async function signIn(page: Page, email: string) {
 	await expect(page).toHaveURL(/\/shops\/fernhill-precision$/);
 }
 
-test('a lead sees Mill 2 stale, checks now, acknowledges a finding and the board follows without a reload', async ({
+test('a lead sees Mill 1 flagged, checks now, acknowledges its finding and the board follows without a reload', async ({
 	page,
 	context
 }) => {
@@ -23,12 +23,16 @@ test('a lead sees Mill 2 stale, checks now, acknowledges a finding and the board
 	await page.getByRole('link', { name: 'Fleet board' }).click();
 	await expect(page).toHaveURL(board);
 
+	// Mill 1's spare H6 was last touched off 37 days ago, past the 30-day limit for tools.
+	const mill1 = page.locator('[data-testid="fleet-row"][data-machine="Mill 1"]');
+	await expect(mill1).toHaveAttribute('data-health', 'stale');
+	const badge = mill1.locator('[data-status="stale"]');
+	await expect(badge).toHaveText('Stale');
+	await expect(badge.locator('svg')).toHaveCount(1);
+	await expect(mill1).toContainText('1 offset past the age limit');
 	// Mill 2's block was re-set 3 days ago; its G54 and H1 were measured before that.
 	const mill2 = page.locator('[data-testid="fleet-row"][data-machine="Mill 2"]');
 	await expect(mill2).toHaveAttribute('data-health', 'stale');
-	const badge = mill2.locator('[data-status="stale"]');
-	await expect(badge).toHaveText('Stale');
-	await expect(badge.locator('svg')).toHaveCount(1);
 	await expect(mill2).toContainText('measured before the reference was re-set');
 	await page.screenshot({ path: `${shots}/fleet-board-lead.png`, fullPage: true });
 
@@ -40,32 +44,35 @@ test('a lead sees Mill 2 stale, checks now, acknowledges a finding and the board
 	await expect(page.getByTestId('check-progress')).toContainText('machines checked');
 	await expect(page.getByTestId('last-check')).toContainText('on request');
 	await page.screenshot({ path: `${shots}/fleet-board-checked.png`, fullPage: true });
-	const ackCell = mill2.locator('td').nth(5);
+	const ackCell = mill1.locator('td').nth(5);
 	const acknowledgedBefore = Number(await ackCell.innerText());
 
 	// A second tab keeps the board open while the lead acts in the first.
 	const watcher = await context.newPage();
 	await watcher.goto(board);
-	const watched = watcher.locator('[data-testid="fleet-row"][data-machine="Mill 2"] td').nth(5);
+	const watched = watcher.locator('[data-testid="fleet-row"][data-machine="Mill 1"] td').nth(5);
 	await expect(watched).toHaveText(String(acknowledgedBefore));
 
-	// Mill 2's open findings, from the board's count.
-	await page.goto(`${findings}?machine=2&status=open`);
-	await expect(page.getByRole('heading', { name: 'Findings — Mill 2' })).toBeVisible();
+	// Mill 1's open findings, from the board's count: the spare's length offset.
+	await page.goto(`${findings}?machine=1&status=open`);
+	await expect(page.getByRole('heading', { name: 'Findings — Mill 1' })).toBeVisible();
 	const item = page.getByTestId('finding').first();
 	await expect(item).toHaveAttribute('data-status', 'open');
+	await expect(item).toContainText('H6 was last measured 37 days ago');
 	// No comment, no acknowledgement: the reason is asked for.
 	await item.getByRole('button', { name: 'Acknowledge' }).click();
 	await expect(item.locator('.field-error')).toBeVisible();
-	await item.getByTestId('finding-comment').fill('Re-touching on second shift; bracket job paused');
+	await item
+		.getByTestId('finding-comment')
+		.fill('Spare, not in the pump housing job; re-touch before use');
 	await item.getByRole('button', { name: 'Acknowledge' }).click();
 	// Acknowledged findings leave the "open" list; show them all to see the history.
 	const id = await item.getAttribute('data-finding-id');
-	await page.goto(`${findings}?machine=2&status=all`);
+	await page.goto(`${findings}?machine=1&status=all`);
 	const acked = page.locator(`[data-testid="finding"][data-finding-id="${id}"]`);
 	await expect(acked.getByTestId('finding-status')).toHaveText('◐Acknowledged');
 	await expect(acked.getByTestId('finding-history')).toContainText('Acknowledged by Keiko Hart');
-	await expect(acked.getByTestId('finding-history')).toContainText('bracket job paused');
+	await expect(acked.getByTestId('finding-history')).toContainText('re-touch before use');
 	await page.screenshot({ path: `${shots}/findings-acknowledged.png`, fullPage: true });
 
 	// The other tab's board catches up by itself (polling), no reload.
