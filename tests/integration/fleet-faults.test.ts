@@ -251,8 +251,11 @@ describe('Redis down (a proxy in front of the real Redis, closed and reopened)',
 	it('when Redis is back, a check enqueued then runs', async () => {
 		await proxy.up();
 		// ioredis reconnects by itself (backoff up to 2 s); until then the producer still says paused.
-		const jobId = await until('the queue to take a job again', () =>
-			enqueueCheckNow(shop.id, queue)
+		// Normally a second or two; 45 s of margin because a loaded CI machine once took over 20.
+		const jobId = await until(
+			'the queue to take a job again',
+			() => enqueueCheckNow(shop.id, queue),
+			45_000
 		);
 		const run = await until('the worker to run the check', () =>
 			withShop(
@@ -283,7 +286,7 @@ describe('Redis down (a proxy in front of the real Redis, closed and reopened)',
 				knex
 			)
 		);
-	});
+	}, 120_000);
 });
 
 describe('SES down (the fake SES starts only after the job has failed)', () => {

@@ -60,6 +60,9 @@ export function createChangeFeed(
 	const syncPrefix = `sync:${randomUUID()}:`;
 	let syncSeq = 0;
 	const awaitingSync = new Map<string, () => void>();
+	// One query at a time on the feed's connection (pg deprecates overlapping queries on one
+	// client): heartbeats and sync() markers wait their turn.
+	let sending: Promise<unknown> = Promise.resolve();
 
 	const emit = (m: ChangeMessage) => {
 		for (const fn of subscribers) {
@@ -78,7 +81,11 @@ export function createChangeFeed(
 		const arrived = await new Promise<boolean>((resolve) => {
 			awaitingSync.set(marker, () => resolve(true));
 			timeout = setTimeout(() => resolve(false), timeoutMs);
-			c.query('select pg_notify($1, $2)', [CHANGE_CHANNEL, marker]).catch(() => resolve(false));
+			const send = sending.then(() =>
+				c.query('select pg_notify($1, $2)', [CHANGE_CHANNEL, marker])
+			);
+			sending = send.catch(() => {});
+			send.catch(() => resolve(false));
 		});
 		clearTimeout(timeout);
 		awaitingSync.delete(marker);
@@ -109,6 +116,7 @@ export function createChangeFeed(
 	async function connect(): Promise<void> {
 		timer = undefined;
 		if (stopped) return;
+		sending = Promise.resolve(); // nothing queued behind a lost connection's last query
 		const c = new pg.Client({
 			connectionString: url,
 			keepAlive: true,
