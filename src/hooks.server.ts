@@ -4,6 +4,7 @@ import { handle as authHandle } from './auth';
 import { createSessionCache, sessionKey } from '$lib/server/auth/session-cache';
 import { db } from '$lib/server/db';
 import { changeFeed, perProcess, startedChangeFeed } from '$lib/server/db/change-feed';
+import { onlyReads } from '$lib/server/guard';
 import { closeServerResources } from '$lib/server/shutdown';
 import { findUserById } from '$lib/server/users';
 
@@ -24,15 +25,15 @@ perProcess('shutdown', () => process.once('sveltekit:shutdown', () => void close
 const loadUser: Handle = async ({ event, resolve }) => {
 	event.locals.user = null;
 	const key = sessionKey(event.cookies.getAll());
-	const sessions = key ? sessionCache() : undefined;
-	const cached = key ? sessions?.get(key) : undefined;
+	// No session cookie, no session (JWT sessions live only in that cookie): spare Auth.js.
+	if (!key) return resolve(event);
+	const sessions = sessionCache();
+	const cached = sessions.get(key);
 	if (cached) {
 		event.locals.user = { ...cached };
 		return resolve(event);
 	}
-	// No session cookie, no session (JWT sessions live only in that cookie): spare Auth.js.
-	if (!key) return resolve(event);
-	const version = sessions?.version ?? 0;
+	const version = sessions.version;
 	const session = await event.locals.auth();
 	const id = Number(session?.user?.id);
 	if (Number.isSafeInteger(id) && id > 0) {
@@ -42,7 +43,7 @@ const loadUser: Handle = async ({ event, resolve }) => {
 			event.locals.user = { ...signedIn };
 			// Under the cookie that came in and under the one Auth.js just re-issued (if any).
 			const renewed = sessionKey(event.cookies.getAll());
-			for (const k of new Set([key, renewed])) if (k) sessions?.set(k, signedIn, version);
+			for (const k of new Set([key, renewed])) if (k) sessions.set(k, signedIn, version);
 		}
 	}
 	return resolve(event);
@@ -56,8 +57,7 @@ const loadUser: Handle = async ({ event, resolve }) => {
  */
 const ownWritesVisible: Handle = async ({ event, resolve }) => {
 	const response = await resolve(event);
-	const method = event.request.method;
-	if (method !== 'GET' && method !== 'HEAD') await startedChangeFeed()?.sync();
+	if (!onlyReads(event.request.method)) await startedChangeFeed()?.sync();
 	return response;
 };
 

@@ -23,6 +23,9 @@ export function requireUser(event: RequestEvent): NonNullable<App.Locals['user']
 	return user;
 }
 
+/** GET and HEAD only read; anything else may write (form actions, POST/PUT/PATCH/DELETE). */
+export const onlyReads = (method: string) => method === 'GET' || method === 'HEAD';
+
 const membershipCache = () => perProcess('memberships', () => createMembershipCache(changeFeed()));
 
 /**
@@ -31,8 +34,7 @@ const membershipCache = () => perProcess('memberships', () => createMembershipCa
  * anything that can write (form actions, POST/PUT/PATCH/DELETE) reads the database.
  */
 async function membershipFor(event: RequestEvent, userId: number, slug: string) {
-	const read = event.request.method === 'GET' || event.request.method === 'HEAD';
-	if (!read) return findMembership(db(), userId, slug);
+	if (!onlyReads(event.request.method)) return findMembership(db(), userId, slug);
 	const memberships = membershipCache();
 	const key = membershipKey(userId, slug);
 	const cached = memberships.get(key);

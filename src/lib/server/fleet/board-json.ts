@@ -21,7 +21,7 @@ const gzipAsync = promisify(gzip);
  * (./board-cache.ts: dropped on every committed change to what the board reads, at most 5 s
  * old). Kept as bytes, plain and gzipped once per build: encoding 70 kB of JSON for every
  * response cost a tenth of a cached request's CPU, and a browser polling the board takes
- * ~7 kB gzipped instead of 70 kB. FLEET_BOARD_CACHE=off builds it on every call (the
+ * ~4 kB gzipped instead of 70 kB. FLEET_BOARD_CACHE=off builds it on every call (the
  * benchmark's uncached run). The caller has already checked the member's access.
  */
 export function preparedFleetBoard(shop: ShopRef): Promise<PreparedBoard> {
