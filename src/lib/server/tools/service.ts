@@ -23,6 +23,18 @@ export async function activeTNumbers(
 	);
 }
 
+/** H numbers of the rack's active tools → the T number using each (CSV import refuses a clash). */
+export async function activeHNumbers(
+	trx: Knex.Transaction,
+	machineId: number
+): Promise<Map<number, number>> {
+	const rows = await trx('tools')
+		.where({ machine_id: machineId })
+		.whereNull('archived_at')
+		.select('h_number', 't_number');
+	return new Map(rows.map((r) => [Number(r.h_number), Number(r.t_number)]));
+}
+
 const row = (machineId: number, t: NewTool) => ({
 	machine_id: machineId,
 	t_number: t.t,

@@ -10,7 +10,14 @@ import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
 import { machineOverview } from '$lib/server/offsets/overview';
 import { parseToolCsv, TOOL_CSV_MAX_BYTES } from '$lib/server/tools/csv';
-import { activeTNumbers, addTool, archiveTool, importTools } from '$lib/server/tools/service';
+import {
+	activeHNumbers,
+	activeTNumbers,
+	addTool,
+	archiveTool,
+	importTools
+} from '$lib/server/tools/service';
+import { isUniqueViolation } from '$lib/server/db/errors';
 import type { Actions, PageServerLoad } from './$types';
 
 const importChoiceSchema = z.object({
@@ -85,7 +92,11 @@ export const actions: Actions = {
 		const text = await file.text();
 		return withShop(shop, async (trx) => {
 			const machine = await machineFromParam(trx, event.params.machine);
-			const parsed = parseToolCsv(text, await activeTNumbers(trx, machine.id));
+			const parsed = parseToolCsv(
+				text,
+				await activeTNumbers(trx, machine.id),
+				await activeHNumbers(trx, machine.id)
+			);
 			if (!parsed.ok) return fail(400, { importError: parsed.message });
 			return { preview: { fileName: file.name, csvText: text, rows: parsed.rows } };
 		});
@@ -94,10 +105,14 @@ export const actions: Actions = {
 		const { shop, user } = await requireMember(event, 'machines.write');
 		const choice = importChoiceSchema.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!choice.success) return fail(400, { importError: choice.error.issues[0].message });
-		return withShop(shop, async (trx) => {
+		const importing = withShop(shop, async (trx) => {
 			const machine = await machineFromParam(trx, event.params.machine);
 			// Re-check against the rack as it is now: someone may have added a tool since the preview.
-			const parsed = parseToolCsv(choice.data.csvText, await activeTNumbers(trx, machine.id));
+			const parsed = parseToolCsv(
+				choice.data.csvText,
+				await activeTNumbers(trx, machine.id),
+				await activeHNumbers(trx, machine.id)
+			);
 			if (!parsed.ok) return fail(400, { importError: parsed.message });
 			const r = await importTools(
 				trx,
@@ -112,7 +127,22 @@ export const actions: Actions = {
 					importError: r.message,
 					preview: { fileName: '', csvText: choice.data.csvText, rows: parsed.rows }
 				});
-			redirect(303, `/shops/${shop.slug}/machines/${machine.id}/tools?imported=${r.imported}`);
+			return {
+				location: `/shops/${shop.slug}/machines/${machine.id}/tools?imported=${r.imported}`
+			};
 		});
+		// Two imports of the same tools at once: the second one's T pockets were taken between its
+		// check and its insert (the unique index decides); nothing of it was written.
+		const result = await importing.catch((e: unknown) => {
+			if (isUniqueViolation(e)) return null;
+			throw e;
+		});
+		if (result === null)
+			return fail(409, {
+				importError:
+					'Another import or edit added tools to this rack at the same moment, so nothing from this file was imported. Check the rack and upload the file again.'
+			});
+		if ('location' in result) redirect(303, result.location);
+		return result;
 	}
 };
