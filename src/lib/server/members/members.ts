@@ -1,4 +1,5 @@
 import type { Knex } from 'knex';
+import { endAllSessions } from '../users';
 import type { Role } from '$lib/permissions';
 import { audit } from '../audit';
 import { withShop, type ShopRef } from '../db/tenant';
@@ -40,10 +41,12 @@ async function lockOwnersAndFind(trx: Knex.Transaction, shop: ShopRef, membershi
 		.where({ shop_id: shop.id, role: 'owner' })
 		.forUpdate()
 		.select('id');
-	const target: { role: Role; email: string } | undefined = await trx('public.memberships as m')
+	const target: { role: Role; email: string; user_id: number } | undefined = await trx(
+		'public.memberships as m'
+	)
 		.join('public.users as u', 'u.id', 'm.user_id')
 		.where({ 'm.id': membershipId, 'm.shop_id': shop.id })
-		.first('m.role', 'u.email');
+		.first('m.role', 'u.email', 'm.user_id');
 	return { ownerCount: owners.length, target };
 }
 
@@ -105,6 +108,8 @@ export async function removeMember(
 			return { ok: false, message: `${target.email} is the last owner and cannot be removed.` };
 		}
 		await trx('public.memberships').where({ id: membershipId }).del();
+		// Their open sessions end at once (session generation), not only this shop's access.
+		await endAllSessions(trx, Number(target.user_id));
 		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
 		await audit(trx, {
 			actorUserId: by.id,
