@@ -106,7 +106,7 @@ test('a copied session cookie stops working at once after sign-out and after a p
 	await anon.post('/reset', { form: { email }, headers: { accept: 'text/html' } });
 	await expect.poll(async () => (await mailsTo(email)).length).toBeGreaterThan(0);
 	const [mail] = await mailsTo(email);
-	const path = new URL(mail.text.match(/https?:\/\/\S+\/reset\/\S+/)![0]).pathname;
+	const path = new URL(mail.text!.match(/https?:\/\/\S+\/reset\/\S+/)![0]).pathname;
 	const done = await anon.post(path, {
 		form: { password: 'a-brand-new-pass-2' },
 		headers: { accept: 'text/html' },
