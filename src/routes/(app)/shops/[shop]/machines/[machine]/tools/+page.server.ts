@@ -17,7 +17,6 @@ import {
 	archiveTool,
 	importTools
 } from '$lib/server/tools/service';
-import { isUniqueViolation } from '$lib/server/db/errors';
 import type { Actions, PageServerLoad } from './$types';
 
 const importChoiceSchema = z.object({
@@ -105,7 +104,7 @@ export const actions: Actions = {
 		const { shop, user } = await requireMember(event, 'machines.write');
 		const choice = importChoiceSchema.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!choice.success) return fail(400, { importError: choice.error.issues[0].message });
-		const importing = withShop(shop, async (trx) => {
+		return withShop(shop, async (trx) => {
 			const machine = await machineFromParam(trx, event.params.machine);
 			// Re-check against the rack as it is now: someone may have added a tool since the preview.
 			const parsed = parseToolCsv(
@@ -122,27 +121,14 @@ export const actions: Actions = {
 				user,
 				clientAddress(event)
 			);
+			// A parallel import of the same tools: 409 with what happened, not a bare 500.
+			if (!r.ok && 'conflict' in r) return fail(409, { importError: r.message });
 			if (!r.ok)
 				return fail(400, {
 					importError: r.message,
 					preview: { fileName: '', csvText: choice.data.csvText, rows: parsed.rows }
 				});
-			return {
-				location: `/shops/${shop.slug}/machines/${machine.id}/tools?imported=${r.imported}`
-			};
+			redirect(303, `/shops/${shop.slug}/machines/${machine.id}/tools?imported=${r.imported}`);
 		});
-		// Two imports of the same tools at once: the second one's T pockets were taken between its
-		// check and its insert (the unique index decides); nothing of it was written.
-		const result = await importing.catch((e: unknown) => {
-			if (isUniqueViolation(e)) return null;
-			throw e;
-		});
-		if (result === null)
-			return fail(409, {
-				importError:
-					'Another import or edit added tools to this rack at the same moment, so nothing from this file was imported. Check the rack and upload the file again.'
-			});
-		if ('location' in result) redirect(303, result.location);
-		return result;
 	}
 };
