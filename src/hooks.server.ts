@@ -5,6 +5,7 @@ import { createSessionCache, sessionKey } from '$lib/server/auth/session-cache';
 import { db } from '$lib/server/db';
 import { changeFeed, perProcess, startedChangeFeed } from '$lib/server/db/change-feed';
 import { onlyReads } from '$lib/server/guard';
+import { requestGuard } from '$lib/server/request-guard';
 import { closeServerResources } from '$lib/server/shutdown';
 import { findUserById } from '$lib/server/users';
 
@@ -77,4 +78,10 @@ const securityHeaders: Handle = async ({ event, resolve }) => {
 	return response;
 };
 
-export const handle = sequence(authHandle, loadUser, ownWritesVisible, securityHeaders);
+export const handle = sequence(
+	requestGuard,
+	authHandle,
+	loadUser,
+	ownWritesVisible,
+	securityHeaders
+);

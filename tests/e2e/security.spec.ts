@@ -162,3 +162,24 @@ test('the dev mailbox needs sign-in and shows a person only their own mail', asy
 	expect(html).not.toContain(email);
 	expect(html).not.toContain('/reset/');
 });
+
+test('a NUL byte or a text/plain body gets 400 with a sentence, never a bare 500', async () => {
+	const ctx = await request.newContext({ baseURL, extraHTTPHeaders: { Origin: baseURL } });
+	const slug = await ctx.get('/shops/fern%00hill');
+	expect(slug.status()).toBe(400);
+	expect(await slug.text()).toContain('NUL character');
+	const query = await ctx.get('/api/v1/shops/fernhill-precision/setups?state=pl%00anned');
+	expect(query.status()).toBe(400);
+	const field = await ctx.post('/signup', {
+		form: { name: 'Nul\u0000Name', email: 'nul@example.test', password: 'x', shopName: 'N' },
+		headers: { accept: 'text/html' }
+	});
+	expect(field.status()).toBe(400);
+	expect(await field.text()).toContain('The field "name" contains a NUL character');
+	const plain = await ctx.post('/signin', {
+		data: 'email=ada@fernhill.example&password=x',
+		headers: { 'content-type': 'text/plain', accept: 'text/html' }
+	});
+	expect(plain.status()).toBe(400);
+	expect(await plain.text()).toContain('Forms must be sent as application/x-www-form-urlencoded');
+});
