@@ -18,6 +18,7 @@ port_in_use "$PORT" && die "port $PORT is already in use (is Datumkeep already r
 need_node_modules
 bash scripts/services.sh up
 npx tsx scripts/create-db.ts
+npx tsx scripts/db-roles.ts
 npx tsx scripts/migrate.ts
 npx tsx scripts/seed.ts
 

@@ -9,6 +9,7 @@ import * as m0007 from './20261203070000_add_check_hour_to_shops';
 import * as m0008 from './20261203070100_add_digest_opt_out_to_memberships';
 import * as m0009 from './20261204090000_create_change_notifications';
 import * as m1301 from './20261213090000_add_session_generation_to_users';
+import * as m1302 from './20261213090100_create_shop_provisioning_functions';
 
 /**
  * The public-schema migrations, in order. Listed by hand (not read from the folder) so the
@@ -25,5 +26,6 @@ export const publicMigrations: Record<string, Knex.Migration> = {
 	'20261203070000_add_check_hour_to_shops': m0007,
 	'20261203070100_add_digest_opt_out_to_memberships': m0008,
 	'20261204090000_create_change_notifications': m0009,
-	'20261213090000_add_session_generation_to_users': m1301
+	'20261213090000_add_session_generation_to_users': m1301,
+	'20261213090100_create_shop_provisioning_functions': m1302
 };

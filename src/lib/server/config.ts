@@ -7,6 +7,14 @@ export const config = {
 	get databaseUrl(): string {
 		return process.env.DATABASE_URL ?? 'postgres://postgres@127.0.0.1:54329/datumkeep';
 	},
+	/**
+	 * What the app and the worker log in as: DATABASE_APP_URL (the least-privilege
+	 * `datumkeep_app` role, see db/roles.ts), else DATABASE_URL. Scripts that migrate or seed
+	 * use DATABASE_URL.
+	 */
+	get appDatabaseUrl(): string {
+		return process.env.DATABASE_APP_URL || this.databaseUrl;
+	},
 	get redisUrl(): string {
 		return process.env.REDIS_URL ?? 'redis://127.0.0.1:63799/0';
 	},

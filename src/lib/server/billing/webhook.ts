@@ -22,6 +22,7 @@ import { renderEmail } from '../email/layout';
 import { sendEmail } from '../email/send';
 import { planForPrice } from './stripe';
 import { getShopBilling, type ShopBilling, type SubscriptionStatus } from './state';
+import { enterShop, leaveShop } from '../db/roles';
 
 type Obj = Record<string, unknown>;
 export type Outcome = 'applied' | 'stale' | 'ignored';
@@ -210,11 +211,11 @@ async function apply(
 		const { schema_name: schema } = await trx('public.shops')
 			.where({ id: shopId })
 			.first('schema_name');
-		await trx.raw('set local search_path to ??, public', [schema]);
+		await enterShop(trx, schema);
 		for (const a of ctx.audits) {
 			await audit(trx, { actorEmail: 'Stripe (webhook)', action: a.action, detail: a.detail });
 		}
-		await trx.raw('set local search_path to public');
+		await leaveShop(trx);
 	}
 	return { outcome: 'applied', note, shopId };
 }

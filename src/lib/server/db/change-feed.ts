@@ -44,7 +44,7 @@ export interface ChangeFeed {
  * the app hear them when the notification reaches them (normally within milliseconds).
  */
 export function createChangeFeed(
-	url: string = config.databaseUrl,
+	url: string = config.appDatabaseUrl,
 	options: { heartbeatMs?: number; heartbeatTimeoutMs?: number; connectTimeoutMs?: number } = {}
 ): ChangeFeed {
 	const heartbeatMs = options.heartbeatMs ?? 10_000;

@@ -4,6 +4,7 @@ import type { machineFormSchema, newMachineSchema } from '$lib/schemas/machine';
 import { audit } from '../audit';
 import { assertCanAddMachine } from '../billing/gate';
 import type { ShopRef } from '../db/tenant';
+import { enterShop } from '../db/roles';
 
 type NewMachine = z.infer<typeof newMachineSchema>;
 type MachineEdit = z.infer<typeof machineFormSchema>;
@@ -35,7 +36,7 @@ export async function createMachine(
 		return await knex.transaction(async (trx) => {
 			const gate = await assertCanAddMachine(trx, shop);
 			if (!gate.ok) return { ok: false, message: gate.message };
-			await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+			await enterShop(trx, shop.schemaName);
 			const [row] = await trx('machines')
 				.insert({
 					name: input.name,

@@ -6,6 +6,7 @@ import { config } from '../config';
 import { withShop, type ShopRef } from '../db/tenant';
 import { renderEmail } from '../email/layout';
 import { sendEmail } from '../email/send';
+import { enterShop } from '../db/roles';
 
 export const INVITATION_DAYS = 7;
 
@@ -251,7 +252,7 @@ export async function acceptInvitation(
 			.insert({ user_id: userId, shop_id: inv.shopId, role: inv.role })
 			.onConflict(['user_id', 'shop_id'])
 			.ignore();
-		await trx.raw('set local search_path to ??, public', [inv.schemaName]);
+		await enterShop(trx, inv.schemaName);
 		await audit(trx, {
 			actorUserId: userId,
 			actorEmail: inv.email,

@@ -4,6 +4,7 @@ import type { Role } from '$lib/permissions';
 import { audit } from '../audit';
 import { withShop, type ShopRef } from '../db/tenant';
 import type { Actor } from './invitations';
+import { enterShop } from '../db/roles';
 
 export interface MemberView {
 	membershipId: number;
@@ -77,7 +78,7 @@ export async function changeRole(
 			};
 		}
 		await trx('public.memberships').where({ id: membershipId }).update({ role: newRole });
-		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+		await enterShop(trx, shop.schemaName);
 		await audit(trx, {
 			actorUserId: by.id,
 			actorEmail: by.email,
@@ -110,7 +111,7 @@ export async function removeMember(
 		await trx('public.memberships').where({ id: membershipId }).del();
 		// Their open sessions end at once (session generation), not only this shop's access.
 		await endAllSessions(trx, Number(target.user_id));
-		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+		await enterShop(trx, shop.schemaName);
 		await audit(trx, {
 			actorUserId: by.id,
 			actorEmail: by.email,
