@@ -76,7 +76,7 @@ export async function up(knex: Knex): Promise<void> {
 				join pg_class c on c.oid = t.tgrelid
 				join pg_namespace n on n.oid = c.relnamespace
 				join pg_proc p on p.oid = t.tgfoid
-				where n.nspname = p_schema and p.proname = 'refuse_change' loop
+				where n.nspname = p_schema and p.proname = 'refuse_change' and t.tgname like '%_append_only' loop
 				execute format('revoke update, delete, truncate on table %I.%I from %I', p_schema, r.relname, v_role);
 			end loop;
 		end $fn$`);

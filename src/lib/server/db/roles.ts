@@ -11,7 +11,8 @@ import { assertShopSchema } from './schema-name';
  * - one role per shop, `<database>__shop_<id>`: DML on that shop's schema only (no UPDATE,
  *   DELETE or TRUNCATE on append-only tables). `withShop` switches to it for the transaction
  *   (`SET LOCAL ROLE`), so a query inside a shop's transaction that names another shop's schema
- *   is refused by PostgreSQL.
+ *   is refused by PostgreSQL. (A superuser session — scripts, integration tests — is left as
+ *   it is; tests/integration/db-roles.test.ts logs in as the app role.)
  * - `datumkeep_shop`: what every shop role may do in `public`.
  * Created by scripts/db-roles.ts (run by npm start and npm test as the superuser).
  */
@@ -46,7 +47,12 @@ export function databaseOf(k: Knex | Knex.Transaction): string {
  */
 export async function enterShop(trx: Knex.Transaction, schemaName: string): Promise<void> {
 	const role = shopRoleName(databaseOf(trx), schemaName);
-	await trx.raw('set local role ??', [role]);
+	// The app role (never a superuser) always becomes the shop's role. A superuser session (the
+	// seed script, integration tests that inject faults with their own DDL) keeps its rights.
+	await trx.raw(
+		"select set_config('role', ?, true) where current_setting('is_superuser') = 'off'",
+		[role]
+	);
 	await trx.raw('set local search_path to ??, public', [schemaName]);
 }
 
