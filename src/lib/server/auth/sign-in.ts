@@ -164,7 +164,10 @@ export function safeNext(next: string | null | undefined): string {
 	} catch {
 		return fallback;
 	}
-	if (!/^\/(?![\/\\])/.test(decoded) || /[\x00-\x1f\x7f\\]/.test(decoded)) return fallback;
+	const controlOrBackslash = [...decoded].some(
+		(c) => c.charCodeAt(0) < 0x20 || c === '\x7f' || c === '\\'
+	);
+	if (!/^\/(?![/\\])/.test(decoded) || controlOrBackslash) return fallback;
 	// The final word: resolved against a dummy origin, it must stay on that origin.
 	const origin = 'http://same.invalid';
 	const url = new URL(next, origin);
