@@ -183,3 +183,18 @@ test('a NUL byte or a text/plain body gets 400 with a sentence, never a bare 500
 	expect(plain.status()).toBe(400);
 	expect(await plain.text()).toContain('Forms must be sent as application/x-www-form-urlencoded');
 });
+
+test('JSON API query numbers are read strictly too', async () => {
+	const ada = await signedInClient(FERNHILL.owner);
+	const bad = await ada.get('/api/v1/shops/fernhill-precision/machines/1/readings?limit=20abc');
+	expect(bad.status()).toBe(400);
+	expect(await bad.text()).toContain(
+		'limit must be a whole number; \\"20abc\\" is not a whole number'
+	);
+	const comma = await ada.get('/api/v1/shops/fernhill-precision/setups?machine=1,5');
+	expect(comma.status()).toBe(400);
+	expect((await comma.json()).message).toContain('"1,5" has a comma');
+	const good = await ada.get('/api/v1/shops/fernhill-precision/machines/1/readings?limit=2');
+	expect(good.status()).toBe(200);
+	expect((await good.json()).rows.length).toBeLessThanOrEqual(2);
+});
