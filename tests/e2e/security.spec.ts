@@ -188,8 +188,8 @@ test('JSON API query numbers are read strictly too', async () => {
 	const ada = await signedInClient(FERNHILL.owner);
 	const bad = await ada.get('/api/v1/shops/fernhill-precision/machines/1/readings?limit=20abc');
 	expect(bad.status()).toBe(400);
-	expect(await bad.text()).toContain(
-		'limit must be a whole number; \\"20abc\\" is not a whole number'
+	expect((await bad.json()).message).toContain(
+		'limit must be a whole number; "20abc" is not a whole number'
 	);
 	const comma = await ada.get('/api/v1/shops/fernhill-precision/setups?machine=1,5');
 	expect(comma.status()).toBe(400);
