@@ -63,6 +63,8 @@ test('the owner invites an operator, who accepts from the e-mail and sees only w
 	await row.getByLabel(/^Role of /).selectOption('admin');
 	await row.getByRole('button', { name: 'Change' }).click();
 	await expect(row.getByLabel(/^Role of /)).toHaveValue('admin');
+	// The select shows the choice at once; wait for the server's answer before p2 looks.
+	await expect(page.getByText('Role changed.')).toBeVisible();
 	expect((await p2.goto('/shops/fernhill-precision/members'))?.status()).toBe(200);
 	await row.getByRole('button', { name: /^Remove / }).click();
 	await expect(page.getByTestId('members-table')).not.toContainText(invitee);
