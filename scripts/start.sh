@@ -11,7 +11,7 @@ cd "$(dirname "$0")/.."
 
 if [ ! -f .env ]; then
 	secret="$(node -e "process.stdout.write(require('crypto').randomBytes(33).toString('base64'))")"
-	sed "s|^AUTH_SECRET=.*|AUTH_SECRET=$secret|; s|^DATUMKEEP_DEV_MAILBOX=.*|DATUMKEEP_DEV_MAILBOX=1|" .env.example > .env
+	sed "s|^AUTH_SECRET=.*|AUTH_SECRET=$secret|" .env.example > .env
 	echo "datumkeep: wrote .env from .env.example with a fresh AUTH_SECRET"
 fi
 . scripts/env.sh

@@ -18,7 +18,6 @@ export STRIPE_SECRET_KEY=sk_test_local_fake
 export STRIPE_WEBHOOK_SECRET=whsec_test_local_fake
 export STRIPE_WEBHOOK_URL="$ORIGIN/api/v1/stripe/webhook"
 export BCRYPT_COST=8
-export DATUMKEEP_DEV_MAILBOX=1
 export AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED=true
 . scripts/env.sh
 case "${DATABASE_URL##*/}" in
