@@ -174,6 +174,9 @@ export async function offsetHistory(
 		.andWhere('o.convention', convention)
 		// A reading corrected by a later one was wrong: it is no baseline for jumps and slips.
 		.whereRaw('not exists (select 1 from readings c where c.corrects_reading_id = o.reading_id)')
+		// Nor is a value saved over a Stop (an override): the next reading is compared with the
+		// value before it, and the overridden value itself keeps its Stop (it has no record).
+		.whereRaw('coalesce(cardinality(r.overridden_findings), 0) = 0')
 		.modify((q) => {
 			if (excludeReadingId) q.whereRaw('o.reading_id is distinct from ?', [excludeReadingId]);
 		})
