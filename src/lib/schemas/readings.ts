@@ -64,6 +64,12 @@ const shared = {
 /** Fields of the override dialog: not part of what was worked out (see previewKey). */
 const OVERRIDE_FIELDS = new Set(['override', 'overrideReason']);
 
+/**
+ * What a machine Z placeholder shows: the format, never a value (a real-looking number in an
+ * empty field can be taken for a reading). x marks a digit.
+ */
+export const MACHINE_Z_FORMAT = { inch: 'e.g. -1x.xxxx', mm: 'e.g. -2xx.xxx' } as const;
+
 /** Touch off a tool on the reference, or re-measure it after a break or change. */
 export const toolReadingSchema = z.object({
 	...shared,

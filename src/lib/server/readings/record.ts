@@ -24,6 +24,7 @@ import {
 import type { PartTopReadingForm, ToolReadingForm, TouchThrough } from '$lib/schemas/readings';
 import { audit } from '../audit';
 import { recheckMachine, resolveOverride } from '../fleet/recheck';
+import { masterTouchZOf } from '../offsets/clearance-setup';
 import {
 	currentOffsets,
 	engineMachine,
@@ -437,24 +438,6 @@ function previousOf(history: HistoryEntry[] | undefined) {
 
 const fmtOf = (m: MachineRecord) => (v: number) => formatWithUnits(v, m.units, m.resolution);
 
-/** The master tool's last tip-on-reference reading (R + L_m), for the master-tool convention. */
-async function masterTouchZ(
-	trx: Knex.Transaction,
-	machine: MachineRecord
-): Promise<number | undefined> {
-	if (machine.convention !== 'master-tool' || !machine.masterToolH) return undefined;
-	const r = await trx('readings as r')
-		.join('tools as t', 't.id', 'r.tool_id')
-		.where({ 'r.machine_id': machine.id, 't.h_number': machine.masterToolH })
-		.whereIn('r.kind', ['tool-touch', 'tool-remeasure', 'reference'])
-		.orderBy([
-			{ column: 'r.taken_at', order: 'desc' },
-			{ column: 'r.id', order: 'desc' }
-		])
-		.first('r.machine_z', 'r.block_height');
-	return r ? Number(r.machine_z) - Number(r.block_height) : undefined;
-}
-
 interface Computed<P> {
 	preview: ReadingPreview;
 	parsed: P;
@@ -511,7 +494,9 @@ export async function previewToolReading(
 			setterHeight: block,
 			referenceGaugeLineZ: reference.gaugeLineZ ?? undefined,
 			masterTouchZ:
-				machine.masterToolH === tool.h ? machineZ! - block : await masterTouchZ(trx, machine),
+				machine.masterToolH === tool.h
+					? machineZ! - block
+					: ((await masterTouchZOf(trx, machine)) ?? undefined),
 			resolution: machine.resolution,
 			machine: engineMachine(machine)
 		});
