@@ -114,9 +114,9 @@ export function gated(
 export const isWithheld = (r: Pick<GatedRegister, 'status'>) =>
 	WITHHELD_STATUSES.includes(r.status);
 
-/** "STOP: Decimal point probably in the wrong place; saved over a Stop" — for comments and pages. */
+/** "STOP: Decimal point probably in the wrong place, saved over a Stop" — for comments and pages. */
 export function gateReason(r: GatedRegister): string {
 	const titles = [...new Set(r.findings.filter((f) => f.kind !== 'override').map((f) => f.title))];
 	if (r.overridden) titles.push('saved over a Stop');
-	return `${r.status.toUpperCase()}: ${titles.join('; ') || 'see the findings'}`;
+	return `${r.status.toUpperCase()}: ${titles.join(', ') || 'see the findings'}`;
 }

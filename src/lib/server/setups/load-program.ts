@@ -64,17 +64,7 @@ export function buildLoadProgram(
 	const by = opts.gate?.includeFlaggedBy;
 	const withheld = by ? [] : flagged;
 	const included = by ? flagged : [];
-	const written =
-		Object.keys(table.work).length + Object.keys(table.tools).length - withheld.length;
-	if (written <= 0) {
-		return {
-			ok: false,
-			reasons: withheld.map(
-				(r) =>
-					`${r.label} is withheld (${gateReason(r)}): re-measure it, or a lead may include it on purpose.`
-			)
-		};
-	}
+	// Everything withheld still gives a file: its comments say what was left out and why.
 	try {
 		const text = loadProgram(engineMachine(machine), table, {
 			title: opts.title.slice(0, 60),
