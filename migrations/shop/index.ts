@@ -17,6 +17,9 @@ import * as m0015 from './20261203080000_allow_recording_gauge_line_z';
 import * as m0016 from './20261203085000_add_machine_photo';
 import * as m0017 from './20261203090000_create_current_offsets';
 import * as m0018 from './20261204090000_notify_board_changes';
+import * as m0019 from './20261212100000_add_reading_overrides';
+import * as m0020 from './20261212100100_link_recurring_findings';
+import * as m0021 from './20261212100200_create_setup_signoffs';
 
 /**
  * The migrations every shop schema gets, in order. Schema-agnostic: they run with the search
@@ -41,5 +44,8 @@ export const shopMigrations: Record<string, Knex.Migration> = {
 	'20261203080000_allow_recording_gauge_line_z': m0015,
 	'20261203085000_add_machine_photo': m0016,
 	'20261203090000_create_current_offsets': m0017,
-	'20261204090000_notify_board_changes': m0018
+	'20261204090000_notify_board_changes': m0018,
+	'20261212100000_add_reading_overrides': m0019,
+	'20261212100100_link_recurring_findings': m0020,
+	'20261212100200_create_setup_signoffs': m0021
 };

@@ -29,6 +29,8 @@ export interface FleetMachine {
 	lastReadingAt: string | null;
 	referenceAt: string | null;
 	referenceVersion: number | null;
+	/** Values saved over a Stop and not yet replaced (who, what, why: the finding's words). */
+	overrides: { subject: string; message: string }[];
 }
 
 export interface LastCheck {

@@ -64,7 +64,7 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	'/shops/[shop]/setups/new': { allowed: ALL, actions: ['create'] },
 	'/shops/[shop]/setups/[setup]': {
 		allowed: ALL,
-		actions: ['save', 'status', 'copy', 'uploadPhoto', 'removePhoto']
+		actions: ['save', 'status', 'signoff', 'copy', 'uploadPhoto', 'removePhoto']
 	},
 	'/shops/[shop]/setups/[setup]/sheet': { allowed: ALL },
 	'/shops/[shop]/setups/[setup]/photos': { allowed: ALL },

@@ -115,8 +115,9 @@ test('an operator uploads a program to the Mill 1 setup, follows a finding to it
 	expect(report).toContain(sha);
 	expect(report).toContain('Pump housing, ops A and B');
 	expect(report).toContain('Mill 1');
-	expect(report).toMatch(/\*\*STOP\*\* · Low rapid \(`low-traverse`\) · line 11/);
-	expect(report).toMatch(/\*\*STOP\*\* · No length offset \(`no-length-comp`\) · line 15/);
+	expect(report).toMatch(/\*\*STOP\*\* · Rapid move below the clearance plane · line 11/);
+	expect(report).toMatch(/\*\*STOP\*\* · Z move without tool length compensation · line 15/);
+	expect(report).not.toContain('no-length-comp');
 	expect(report).toContain('Run the first part single block');
 	await expect(page.getByTestId('sha256')).toHaveText(sha);
 

@@ -231,11 +231,55 @@ describe('reading flows (real PostgreSQL)', () => {
 	});
 
 	it('corrections: same tool, a reason, once; the wrong value stops being the baseline', async () => {
+		// -14.0702 for -14.7002: the engine sees two neighbouring digits swapped, a Stop, so the
+		// server refuses it without an override and a reason, and writes nothing.
+		const before = await inShop(async (trx) => trx('readings').count('* as n').first());
+		await expect(
+			inShop((trx, m) => recordToolReading(trx, m, toolId, tool({ machineZ: '-14.0702' }), actor))
+		).rejects.toMatchObject({
+			issues: [
+				expect.objectContaining({
+					field: 'overrideReason',
+					message: expect.stringMatching(/is Stop \(Two digits probably swapped\)/)
+				})
+			]
+		});
+		await expect(
+			inShop((trx, m) =>
+				recordToolReading(
+					trx,
+					m,
+					toolId,
+					tool({ machineZ: '-14.0702', override: true, overrideReason: '  ' }),
+					actor
+				)
+			)
+		).rejects.toMatchObject({ issues: [expect.objectContaining({ field: 'overrideReason' })] });
+		expect(await inShop(async (trx) => trx('readings').count('* as n').first())).toEqual(before);
 		const wrong = await inShop((trx, m) =>
-			recordToolReading(trx, m, toolId, tool({ machineZ: '-14.0702' }), actor)
+			recordToolReading(
+				trx,
+				m,
+				toolId,
+				tool({ machineZ: '-14.0702', override: true, overrideReason: 'Control shows this' }),
+				actor
+			)
 		);
-		// -14.0702 for -14.7002: the engine sees two neighbouring digits swapped.
 		expect(wrong.preview.findings.map((f) => f.kind)).toContain('transposed-digits');
+		const saved = await inShop(async (trx) =>
+			trx('readings').where({ id: wrong.readingId }).first('override_reason', 'overridden_findings')
+		);
+		expect(saved).toEqual({
+			override_reason: 'Control shows this',
+			overridden_findings: ['transposed-digits']
+		});
+		const overrideAudit = await inShop(async (trx) =>
+			trx('audit_log').where({ action: 'reading.override' }).orderBy('id', 'desc').first('detail')
+		);
+		expect(overrideAudit.detail).toMatchObject({
+			readingId: wrong.readingId,
+			reason: 'Control shows this'
+		});
 		const correction = (over: Partial<ReturnType<typeof tool>>, onTool = toolId) =>
 			inShop((trx, m) =>
 				recordToolReading(

@@ -10,6 +10,7 @@ import { createShopWithOwner } from '$lib/server/shops/create';
 import { setupLoadProgram } from '$lib/server/setups/load';
 import { addSetupPhoto, PHOTO_MAX_BYTES } from '$lib/server/setups/photos';
 import { getSetupDetail, listSetups } from '$lib/server/setups/queries';
+import { recordSignoff } from '$lib/server/setups/signoff';
 import {
 	changeSetupStatus,
 	copySetup,
@@ -206,10 +207,34 @@ describe('setups on the real PostgreSQL', () => {
 				}
 			]
 		});
-		for (const to of ['on-machine', 'proven'] as const) {
-			const r = await inShop((trx) => changeSetupStatus(trx, setupId, to, actor, `to ${to}`));
-			expect(r).toEqual({ ok: true, value: to });
-		}
+		const on = await inShop((trx) =>
+			changeSetupStatus(trx, setupId, 'on-machine', actor, 'to on-machine')
+		);
+		expect(on).toEqual({ ok: true, value: 'on-machine' });
+		// Proven only with a sign-off (entered by / verified at the control by / first part by).
+		const unsigned = await inShop((trx) => changeSetupStatus(trx, setupId, 'proven', actor));
+		expect(unsigned.ok).toBe(false);
+		expect(!unsigned.ok && unsigned.issues[0].message).toMatch(/only with its sign-off/);
+		await inShop((trx) =>
+			recordSignoff(
+				trx,
+				setupId,
+				{
+					enteredBy: 'Sam Setter',
+					enteredOn: '2026-12-03',
+					verifiedBy: 'Vera Verify',
+					verifiedOn: '2026-12-03',
+					firstPartBy: 'Quinn QC',
+					firstPartOn: '2026-12-03',
+					note: ''
+				},
+				actor
+			)
+		);
+		const proven = await inShop((trx) =>
+			changeSetupStatus(trx, setupId, 'proven', actor, 'to proven')
+		);
+		expect(proven).toEqual({ ok: true, value: 'proven' });
 		// Proven setups are not edited any more: they are copied.
 		const edit = await inShop((trx) => updateSetup(trx, setupId, pumpHousing(), actor));
 		expect(edit.ok).toBe(false);

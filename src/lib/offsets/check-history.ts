@@ -3,10 +3,11 @@
  * one (typing slips and unexplained jumps) and how old it is (stale-age, stale-reference).
  */
 import { makeFinding, type Finding, type FindingSubject, type TableFindingKind } from './findings';
-import { formatLength, formatWithUnits } from './format';
+import { formatWithUnits } from './format';
 import type { Policy } from './policy';
 import type { HistoryEntry } from './types';
-import { fromMicro, MM_PER_INCH, toMicro, type Units } from './units';
+import { describeSlip, nameSlip } from './slips';
+import { fromMicro, toMicro, type Units } from './units';
 
 const DAY_MS = 86_400_000;
 
@@ -32,62 +33,7 @@ export function toMillis(t: number | string): number {
 	return typeof t === 'number' ? t : Date.parse(t);
 }
 
-function near(ratio: number, target: number, tolerance: number): boolean {
-	return Math.abs(ratio - target) <= target * tolerance;
-}
-
-/** Digits of |v| at the resolution with the point removed, e.g. 15.2345 → "152345". */
-function digitsOf(v: number, units: Units, resolution: number): string {
-	return formatLength(Math.abs(v), units, resolution).replace('.', '');
-}
-
-/** True when a and b differ only by two neighbouring digits swapped. */
-export function isAdjacentTransposition(a: string, b: string): boolean {
-	if (a.length !== b.length || a === b) return false;
-	const diff: number[] = [];
-	for (let i = 0; i < a.length; i++) if (a[i] !== b[i]) diff.push(i);
-	return (
-		diff.length === 2 &&
-		diff[1] === diff[0] + 1 &&
-		a[diff[0]] === b[diff[1]] &&
-		a[diff[1]] === b[diff[0]]
-	);
-}
-
-/** Which typing slip turns `previous` into `current`, if any. */
-export function slipKind(
-	current: number,
-	previous: number,
-	units: Units,
-	resolution: number,
-	policy: Policy
-): Exclude<TableFindingKind, 'jump'> | null {
-	const c = toMicro(current);
-	const p = toMicro(previous);
-	if (c === p || c === 0 || p === 0) return null;
-	const floor = toMicro(policy.minSlipMagnitude);
-	if (Math.abs(p) < floor && Math.abs(c) < floor) return null;
-	const tol = policy.slipTolerance;
-	if (
-		Math.sign(c) !== Math.sign(p) &&
-		Math.abs(Math.abs(c) - Math.abs(p)) <= toMicro(policy.jumpTolerance)
-	) {
-		return 'sign-flip';
-	}
-	const ratio = Math.abs(c) / Math.abs(p);
-	if (near(ratio, MM_PER_INCH, tol) || near(ratio, 1 / MM_PER_INCH, tol)) return 'unit-slip';
-	if (near(ratio, 10, tol) || near(ratio, 0.1, tol)) return 'decimal-slip';
-	if (
-		Math.sign(c) === Math.sign(p) &&
-		isAdjacentTransposition(
-			digitsOf(current, units, resolution),
-			digitsOf(previous, units, resolution)
-		)
-	) {
-		return 'transposed-digits';
-	}
-	return null;
-}
+export { isAdjacentTransposition, slipKind } from './slips';
 
 const SLIP_TEXT: Record<Exclude<TableFindingKind, 'jump'>, string> = {
 	'sign-flip':
@@ -122,7 +68,8 @@ export function checkRegisterHistory(ctx: RegisterContext): Finding[] {
 	const data = { value: ctx.current, ...(previous ? { previous: previous.value } : {}) };
 
 	if (previous) {
-		const slip = slipKind(ctx.current, previous.value, ctx.units, ctx.resolution, ctx.policy);
+		const named = nameSlip(ctx.current, previous.value, ctx.units, ctx.resolution, ctx.policy);
+		const slip = named?.kind ?? null;
 		const delta = Math.abs(toMicro(ctx.current) - toMicro(previous.value));
 		if (slip) {
 			const excuse = changeRecorded
@@ -133,8 +80,8 @@ export function checkRegisterHistory(ctx: RegisterContext): Finding[] {
 					slip,
 					changeRecorded ? 'caution' : 'stop',
 					ctx.subject,
-					`${ctx.label} is ${fmt(ctx.current)} (was ${fmt(previous.value)}) and ${SLIP_TEXT[slip]}.${excuse}`,
-					data
+					`${ctx.label} is ${fmt(ctx.current)} (was ${fmt(previous.value)}) and ${SLIP_TEXT[slip]}: ${describeSlip(named!, ctx.units, ctx.resolution)}.${excuse}`,
+					{ ...data, slip: named!.rule, corrected: named!.corrected }
 				)
 			);
 		} else if (!changeRecorded && delta > toMicro(ctx.policy.jumpTolerance)) {

@@ -99,3 +99,33 @@ export {
 	type ProgramSetup,
 	type RegisterState
 } from './program';
+export {
+	gateOffsets,
+	classify as classifyRegisters,
+	registerStatus,
+	concernsWork,
+	concernsTool,
+	WITHHELD_STATUSES,
+	type GateResult,
+	type RegisterStatus,
+	type RegisterVerdict
+} from './gate';
+export {
+	nameSlip,
+	slipKind,
+	slipsIntoRange,
+	blockHeightSlip,
+	describeSlip,
+	SLIP_WORDS,
+	type NamedSlip,
+	type BlockSlip,
+	type SlipRule,
+	type SlipKind
+} from './slips';
+export {
+	FINDING_TITLE,
+	APP_FINDING_KINDS,
+	TITLED_KINDS,
+	findingTitle,
+	type AppFindingKind
+} from './finding-titles';

@@ -10,7 +10,18 @@
  */
 import { OffsetInputError, type OffsetIssue } from './errors';
 import { formatLength } from './format';
-import { extendedNumber, STANDARD_WORK_REGISTERS } from './registers';
+import {
+	canonicalH,
+	canonicalRegister,
+	extendedNumber,
+	STANDARD_WORK_REGISTERS
+} from './registers';
+
+/** Two spellings of one register ("g54" and "G54", "03" and "3"). */
+function sameRegister(section: 'work' | 'tools', a: string, b: string): boolean {
+	const canon = section === 'work' ? canonicalRegister : canonicalH;
+	return (canon(a) ?? a) === (canon(b) ?? b);
+}
 import { loadProgramOptionsSchema } from './schemas';
 import { machineName, normalizeTable, parseMachine, travelLimits } from './table';
 import type { ControlStyle, Machine, OffsetTable } from './types';
@@ -92,6 +103,18 @@ export function loadProgram(
 		};
 	}
 
+	// Withheld registers are not written at all (the gate's verdict; see ./gate.ts).
+	const withheld = o.withheld ?? [];
+	const isWithheld = (section: 'work' | 'tools', key: string) =>
+		withheld.some((w) => w.section === section && sameRegister(section, w.register, key));
+	const warningFor = (section: 'work' | 'tools', key: string) =>
+		(o.warnings ?? []).find((w) => w.section === section && sameRegister(section, w.register, key));
+	t = {
+		...t,
+		work: Object.fromEntries(Object.entries(t.work).filter(([k]) => !isWithheld('work', k))),
+		tools: Object.fromEntries(Object.entries(t.tools).filter(([k]) => !isWithheld('tools', k)))
+	};
+
 	const { min, max } = travelLimits(m);
 	const span = toMicro(max) - toMicro(min);
 	const issues: OffsetIssue[] = [];
@@ -114,6 +137,8 @@ export function loadProgram(
 				value,
 				message: `is beyond the Z travel of ${machineName(m)} (${fmt(max - min)} ${m.units})`
 			});
+		const warn = warningFor('work', register);
+		if (warn) body.push(`(${commentText(`WARNING ${register} ${warn.reason}`)})`);
 		body.push(`${words} Z${fmt(value)}`);
 	}
 	if (Object.keys(t.tools).length > 0) body.push('(TOOL LENGTH OFFSETS)');
@@ -124,6 +149,8 @@ export function loadProgram(
 				value,
 				message: `is beyond the Z travel of ${machineName(m)} (${fmt(max - min)} ${m.units})`
 			});
+		const warn = warningFor('tools', h);
+		if (warn) body.push(`(${commentText(`WARNING H${h} ${warn.reason}`)})`);
 		body.push(style === 'iso' ? `G10 L10 P${h} R${fmt(value)}` : `G10 L1 P${h} Z${fmt(value)}`);
 	}
 	if (issues.length > 0) throw new OffsetInputError(issues);
@@ -141,6 +168,13 @@ export function loadProgram(
 		lines.push(`(VALUES CONVERTED FROM ${table.units.toUpperCase()} TO ${m.units.toUpperCase()})`);
 	for (const c of LOAD_PROGRAM_CAUTIONS) lines.push(`(${c})`);
 	if (style === 'iso') lines.push('(LENGTH WEAR IS NOT CHANGED - CHECK IT IS ZERO OR STILL RIGHT)');
+	if (withheld.length > 0) {
+		lines.push('(WITHHELD - NOT WRITTEN, THE CONTROL KEEPS ITS OLD VALUE:)');
+		for (const w of withheld) {
+			const label = w.section === 'tools' ? `H${canonicalH(w.register) ?? w.register}` : w.register;
+			lines.push(`(${commentText(`WITHHELD ${label} ${w.reason}`)})`);
+		}
+	}
 	lines.push(`${m.units === 'inch' ? 'G20' : 'G21'} G90`);
 	lines.push(...body);
 	lines.push('M30');

@@ -260,8 +260,24 @@ export const loadProgramOptionsSchema = z.object({
 	/** Wrap in % lines (default true). */
 	percentFraming: z.boolean().optional(),
 	/** A title for the first comment, e.g. the machine name. */
-	title: z.string().max(60).optional()
+	title: z.string().max(60).optional(),
+	/**
+	 * Registers left out (Stop or stale, the gate's verdict): not written, and named with the
+	 * reason in a comment so whoever loads the program knows the control keeps its old value.
+	 */
+	withheld: z.array(loadProgramNoteSchema()).optional(),
+	/** Flagged registers a lead chose to include: a warning comment goes right above each line. */
+	warnings: z.array(loadProgramNoteSchema()).optional()
 });
+
+/** One register named in a load program's comments: section, register and the reason. */
+function loadProgramNoteSchema() {
+	return z.object({
+		section: z.enum(['work', 'tools']),
+		register: z.string().min(1).max(20),
+		reason: z.string().max(300)
+	});
+}
 
 /** Input of gaugeStack. */
 export const gaugeStackInputSchema = z.object({

@@ -55,8 +55,20 @@ const shared = {
 	blockHeight: z.string().trim().max(40, 'Block height is too long to be a length.').default(''),
 	reason: text(500, 'Reason'),
 	/** When this reading corrects a wrong one: that reading's id. */
-	correctsReadingId: idText
+	correctsReadingId: idText,
+	/** "Save anyway": the operator saw the Stop findings and saves over them (with a reason). */
+	override: z.boolean().default(false),
+	overrideReason: text(500, 'Override reason')
 };
+
+/** Fields of the override dialog: not part of what was worked out (see previewKey). */
+const OVERRIDE_FIELDS = new Set(['override', 'overrideReason']);
+
+/**
+ * What a machine Z placeholder shows: the format, never a value (a real-looking number in an
+ * empty field can be taken for a reading). x marks a digit.
+ */
+export const MACHINE_Z_FORMAT = { inch: 'e.g. -1x.xxxx', mm: 'e.g. -2xx.xxx' } as const;
 
 /** Touch off a tool on the reference, or re-measure it after a break or change. */
 export const toolReadingSchema = z.object({
@@ -98,7 +110,9 @@ export type ReferenceReadingForm = z.infer<typeof referenceReadingSchema>;
  * form still holds exactly what was previewed, so nothing is saved that was not seen first.
  */
 export function previewKey(form: Record<string, unknown>): string {
-	const keys = Object.keys(form).sort();
+	const keys = Object.keys(form)
+		.filter((k) => !OVERRIDE_FIELDS.has(k))
+		.sort();
 	return JSON.stringify(
 		keys.map((k) => [k, typeof form[k] === 'string' ? String(form[k]).trim() : form[k]])
 	);

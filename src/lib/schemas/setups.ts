@@ -110,3 +110,28 @@ export const copySetupSchema = z.object({
 		.min(1, 'Give the copy a name.')
 		.max(120, 'Name is too long (120 characters at most).')
 });
+
+const person = (label: string) =>
+	z
+		.string()
+		.trim()
+		.min(1, `${label}: give a name.`)
+		.max(100, `${label} is too long (100 characters at most).`);
+const day = (label: string) =>
+	z
+		.string()
+		.trim()
+		.regex(/^\d{4}-\d{2}-\d{2}$/, `${label}: give the date as YYYY-MM-DD.`)
+		.refine((v) => !Number.isNaN(Date.parse(`${v}T00:00:00Z`)), `${label}: not a real date.`);
+
+/** Sign-off of a setup: entered by / verified at the control by / first part checked by, each dated. */
+export const setupSignoffSchema = z.object({
+	enteredBy: person('Offsets entered by'),
+	enteredOn: day('Offsets entered on'),
+	verifiedBy: person('Verified at the control by'),
+	verifiedOn: day('Verified on'),
+	firstPartBy: person('First part checked by'),
+	firstPartOn: day('First part checked on'),
+	note: z.string().trim().max(500, 'Note is too long (500 characters at most).').default('')
+});
+export type SetupSignoff = z.infer<typeof setupSignoffSchema>;

@@ -61,6 +61,13 @@ export async function fleetBoard(trx: Knex.Transaction, now = new Date()): Promi
 		group by machine_id, severity, status, (kind like 'stale-%')`
 	);
 
+	// Overrides: values saved over a Stop, still current (their finding is unresolved).
+	const overrides = await trx('findings')
+		.where({ kind: 'override' })
+		.whereNot('status', 'resolved')
+		.orderBy('first_seen_at')
+		.select('machine_id', 'subject', 'message');
+
 	const [run] = await trx('check_runs')
 		.orderBy('started_at', 'desc')
 		.limit(1)
@@ -126,7 +133,10 @@ export async function fleetBoard(trx: Knex.Transaction, now = new Date()): Promi
 			staleAge: o.staleAge,
 			lastReadingAt: m.last_reading_at ? iso(m.last_reading_at) : null,
 			referenceAt: m.reference_at ? iso(m.reference_at) : null,
-			referenceVersion: m.reference_version === null ? null : Number(m.reference_version)
+			referenceVersion: m.reference_version === null ? null : Number(m.reference_version),
+			overrides: overrides
+				.filter((o) => Number(o.machine_id) === id)
+				.map((o) => ({ subject: String(o.subject), message: String(o.message) }))
 		};
 	});
 

@@ -17,7 +17,9 @@ import type { ShopRow } from '../shops/queries';
  *   same values again;
  * - a problem no longer found is resolved automatically (resolved_by null) — but only when it
  *   was last seen before this check, so an older job retried late cannot undo a newer one;
- * - a finding someone resolved by hand reopens only if a check after that still finds it.
+ * - a problem found again after it was resolved (by hand or by a check) is a new row linked to
+ *   the resolved one, if the check looked after the resolution.
+ * Writes that change a machine's offsets re-run its checks at once (./recheck.ts).
  * Each machine is its own transaction: a crash half-way leaves whole machines done, and the
  * retry does them again to the same result.
  */
@@ -84,7 +86,14 @@ export async function runShopCheck(
 				const state = await machineState(trx, machine, checkedAt);
 				const names = new Map<string, string>();
 				for (const s of state.checkInput.setups ?? []) if (s.id && s.name) names.set(s.id, s.name);
-				return storeFindings(trx, machine.id, state.findings, checkedAt, stamp, names);
+				return storeFindings(
+					trx,
+					machine.id,
+					state.findings,
+					checkedAt,
+					{ comment: `no longer found by the check at ${stamp}` },
+					names
+				);
 			},
 			knex
 		);
@@ -151,12 +160,26 @@ export function subjectLabel(f: Finding, setupNames: Map<string, string> = new M
 	}
 }
 
-async function storeFindings(
+/** How findings no longer found get resolved: by a check, or by a write in a request. */
+export interface ResolveNote {
+	/** "no longer found by the check at …" or "resolved by the new reading of H3 at 10:41". */
+	comment: string;
+	/** The member whose write fixed it (null for a background check). */
+	by?: number | null;
+}
+
+/**
+ * Stores one machine's findings as of `checkedAt`: the same problem still found updates its
+ * live row; a problem found again after it was resolved is a new row (its own first-found time)
+ * linked to the resolved one; a live problem no longer found is resolved with `note`.
+ * Overrides are not the engine's to resolve (a new reading of the register resolves them).
+ */
+export async function storeFindings(
 	trx: Knex.Transaction,
 	machineId: number,
 	findings: Finding[],
 	checkedAt: Date,
-	stamp: string,
+	note: ResolveNote,
 	setupNames: Map<string, string>
 ): Promise<{ opened: number; stillOpen: number; resolved: number }> {
 	// The engine may name one problem twice (e.g. two setups sharing a pair): one row per key.
@@ -166,31 +189,22 @@ async function storeFindings(
 	if (unique.length > 0) {
 		const { rows } = await trx.raw(
 			`insert into findings as f (key, machine_id, kind, severity, subject_type, subject, message,
-				status, first_seen_at, last_seen_at)
+				status, first_seen_at, last_seen_at, previous_finding_id)
 			select x.key, :machineId, x.kind, x.severity, x.subject_type, x.subject, x.message,
-				'open', :at, :at
+				'open', :at, :at,
+				(select p.id from findings p where p.key = x.key and p.status = 'resolved'
+					order by p.resolved_at desc nulls last, p.id desc limit 1)
 			from jsonb_to_recordset(cast(:rows as jsonb)) as x(key text, kind text, severity text,
 				subject_type text, subject text, message text)
-			on conflict (key) do update set
+			-- An older check retried late must not bring back what was resolved after it looked.
+			where exists (select 1 from findings l where l.key = x.key and l.status <> 'resolved')
+				or not exists (select 1 from findings r where r.key = x.key and r.status = 'resolved'
+					and r.resolved_at >= :at)
+			on conflict (key) where status <> 'resolved' do update set
 				severity = excluded.severity,
 				subject = excluded.subject,
 				message = excluded.message,
-				last_seen_at = greatest(f.last_seen_at, excluded.last_seen_at),
-				-- Reopen only what was resolved before this check looked.
-				status = case when f.status = 'resolved' and f.resolved_at < excluded.last_seen_at
-					then 'open' else f.status end,
-				first_seen_at = case when f.status = 'resolved' and f.resolved_at < excluded.last_seen_at
-					then excluded.first_seen_at else f.first_seen_at end,
-				acknowledged_by = case when f.status = 'resolved' and f.resolved_at < excluded.last_seen_at
-					then null else f.acknowledged_by end,
-				acknowledged_at = case when f.status = 'resolved' and f.resolved_at < excluded.last_seen_at
-					then null else f.acknowledged_at end,
-				comment = case when f.status = 'resolved' and f.resolved_at < excluded.last_seen_at
-					then '' else f.comment end,
-				resolved_by = case when f.status = 'resolved' and f.resolved_at < excluded.last_seen_at
-					then null else f.resolved_by end,
-				resolved_at = case when f.status = 'resolved' and f.resolved_at < excluded.last_seen_at
-					then null else f.resolved_at end
+				last_seen_at = greatest(f.last_seen_at, excluded.last_seen_at)
 			returning f.first_seen_at = :at as is_new`,
 			{
 				machineId,
@@ -216,15 +230,16 @@ async function storeFindings(
 	const resolved = await trx('findings')
 		.where({ machine_id: machineId })
 		.whereNot('status', 'resolved')
+		.whereNot('kind', 'override')
 		.where('last_seen_at', '<', checkedAt)
 		.modify((q) => {
 			if (found.length > 0) q.whereNotIn('key', found);
 		})
 		.update({
 			status: 'resolved',
-			resolved_by: null,
+			resolved_by: note.by ?? null,
 			resolved_at: checkedAt,
-			comment: `no longer found by the check at ${stamp}`
+			comment: note.comment
 		});
 	return { opened, stillOpen, resolved };
 }

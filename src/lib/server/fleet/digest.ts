@@ -1,4 +1,5 @@
 import type { Knex } from 'knex';
+import { findingTitle } from '$lib/offsets';
 import { config } from '../config';
 import { db } from '../db';
 import { withShop } from '../db/tenant';
@@ -15,6 +16,8 @@ export interface DigestFinding {
 	machineName: string;
 	severity: 'stop' | 'caution';
 	subject: string;
+	/** Plain title of the kind (never the code). */
+	title: string;
 	message: string;
 	status: 'open' | 'acknowledged';
 	isNew: boolean;
@@ -103,6 +106,7 @@ export async function digestFindings(
 			'm.name as machine_name',
 			'f.severity',
 			'f.subject',
+			'f.kind',
 			'f.message',
 			'f.status',
 			'f.first_seen_at'
@@ -113,6 +117,7 @@ export async function digestFindings(
 		machineName: r.machine_name,
 		severity: r.severity,
 		subject: r.subject,
+		title: findingTitle(r.kind),
 		message: r.message,
 		status: r.status,
 		isNew: new Date(r.first_seen_at) > since
@@ -153,9 +158,9 @@ export function renderDigest(
 		);
 		for (const f of list) {
 			const tag = `${WORD[f.severity]}${f.isNew ? ' · new' : ''}${f.status === 'acknowledged' ? ' · acknowledged' : ''}`;
-			text.push(`  [${tag}] ${f.subject}: ${f.message}`);
+			text.push(`  [${tag}] ${f.subject} — ${f.title}: ${f.message}`);
 			html.push(
-				`<li style="margin:4px 0;line-height:1.4"><strong>${escape(tag)}</strong> — ${escape(f.subject)}: ${escape(f.message)}</li>`
+				`<li style="margin:4px 0;line-height:1.4"><strong>${escape(tag)}</strong> — ${escape(f.subject)} — <strong>${escape(f.title)}</strong>: ${escape(f.message)}</li>`
 			);
 		}
 		text.push('');

@@ -19,6 +19,8 @@ export interface FindingRow {
 	resolvedBy: string | null;
 	resolvedAt: string | null;
 	comment: string;
+	/** The resolved finding this one repeats (it came back), if any. */
+	previousId: number | null;
 }
 
 const iso = (v: unknown) => (v ? new Date(v as string).toISOString() : null);
@@ -66,7 +68,8 @@ export async function listFindings(
 		acknowledgedAt: iso(r.acknowledged_at),
 		resolvedBy: r.resolved_by_name ?? (r.status === 'resolved' ? 'the check' : null),
 		resolvedAt: iso(r.resolved_at),
-		comment: r.comment
+		comment: r.comment,
+		previousId: r.previous_finding_id === null ? null : Number(r.previous_finding_id)
 	}));
 }
 

@@ -7,6 +7,7 @@ import {
 	type OffsetTable
 } from '$lib/offsets';
 import { audit } from '../audit';
+import { recheckMachine } from '../fleet/recheck';
 import {
 	currentOffsets,
 	listReferences,
@@ -144,5 +145,14 @@ export async function convertMachine(
 		detail: { from: machine.convention, to: target, registers: rows.length, ...geometry },
 		ip
 	});
+	await recheckMachine(
+		trx,
+		{
+			...machine,
+			convention: target,
+			masterToolH: target === 'master-tool' ? Number(plan.to.masterTool) : null
+		},
+		{ what: `converting to ${target}`, by: by.id }
+	);
 	return plan;
 }

@@ -11,6 +11,8 @@ import {
 	type Setup
 } from '$lib/offsets';
 
+import { clearanceSetup, masterTouchZOf, zeroHeightFor } from './clearance-setup';
+
 /** A machine row as the pages and the engine need it. `trx` below is always a shop transaction (withShop). */
 export interface MachineRecord {
 	id: number;
@@ -174,6 +176,9 @@ export async function offsetHistory(
 		.andWhere('o.convention', convention)
 		// A reading corrected by a later one was wrong: it is no baseline for jumps and slips.
 		.whereRaw('not exists (select 1 from readings c where c.corrects_reading_id = o.reading_id)')
+		// Nor is a value saved over a Stop (an override): the next reading is compared with the
+		// value before it, and the overridden value itself keeps its Stop (it has no record).
+		.whereRaw('coalesce(cardinality(r.overridden_findings), 0) = 0')
 		.modify((q) => {
 			if (excludeReadingId) q.whereRaw('o.reading_id is distinct from ?', [excludeReadingId]);
 		})
@@ -201,12 +206,15 @@ export async function offsetHistory(
 	return history;
 }
 
-/** The machine's setups that are on the table or planned, in the engine's shape (for out-of-travel and clearance). */
+/**
+ * The machine's setups that are on the table or planned, in the engine's shape (for
+ * out-of-travel and clearance), built by the one clearance builder (./clearance-setup).
+ */
 export async function engineSetups(
 	trx: Knex.Transaction,
 	machine: MachineRecord,
 	table: OffsetTable,
-	geometry: { referenceGaugeLineZ?: number | null }
+	geometry: { referenceGaugeLineZ?: number | null; masterTouchZ?: number | null }
 ): Promise<Setup[]> {
 	const setups = await trx('setups')
 		.where({ machine_id: machine.id })
@@ -223,45 +231,46 @@ export async function engineSetups(
 		.join('tools as t', 't.id', 'st.tool_id')
 		.whereIn('st.setup_id', ids)
 		.select('st.setup_id', 't.h_number');
+	const g = {
+		referenceGaugeLineZ: geometry.referenceGaugeLineZ ?? null,
+		masterTouchZ: geometry.masterTouchZ ?? null
+	};
 	const out: Setup[] = [];
 	for (const s of setups) {
-		const fx = fixtures.filter((f) => f.setup_id === s.id && table.work[f.register] !== undefined);
-		if (fx.length === 0) continue;
-		const zeroHeight = (w: number) =>
-			zeroHeightOf(machine, w, geometry.referenceGaugeLineZ ?? null);
-		const usable = fx.filter((f) => zeroHeight(table.work[f.register]) !== null);
-		if (usable.length === 0) continue;
-		out.push({
-			id: String(s.id),
-			name: s.name,
-			units: machine.units,
-			resolution: machine.resolution,
-			margin: Number(s.clearance_margin),
-			fixtures: usable.map((f) => ({
-				register: f.register,
-				zeroHeight: zeroHeight(table.work[f.register])!
-			})),
-			obstacles: usable.map((f) => ({ label: f.register, height: Number(f.obstacle_height) })),
-			tools: tools.filter((t) => t.setup_id === s.id).map((t) => ({ h: String(t.h_number) }))
-		});
+		const built = clearanceSetup(
+			machine,
+			Number(s.clearance_margin),
+			fixtures
+				.filter((f) => f.setup_id === s.id)
+				.map((f) => ({
+					register: f.register,
+					workOffset: table.work[f.register] ?? null,
+					obstacleHeight: Number(f.obstacle_height)
+				})),
+			g,
+			{
+				id: String(s.id),
+				name: s.name,
+				tools: tools.filter((t) => t.setup_id === s.id).map((t) => ({ h: String(t.h_number) }))
+			}
+		);
+		if (built) out.push(built);
 	}
 	return out;
 }
 
 /**
- * h_k (program zero above the reference) from a work offset: W itself when tips are touched on
- * the reference; W − R from the gauge line (needs R); unknown for master-tool here.
+ * h_k (program zero above the reference) from a work offset (./clearance-setup zeroHeightFor):
+ * W itself when tips are touched on the reference; W − R from the gauge line (needs R);
+ * W − (R + L_m) in master-tool (needs the master's touch).
  */
 export function zeroHeightOf(
 	machine: MachineRecord,
 	workZ: number,
-	referenceGaugeLineZ: number | null
+	referenceGaugeLineZ: number | null,
+	masterTouchZ: number | null = null
 ): number | null {
-	if (machine.convention === 'reference-touch') return workZ;
-	if (machine.convention === 'gauge-length' && referenceGaugeLineZ !== null) {
-		return Math.round((workZ - referenceGaugeLineZ) * 1e6) / 1e6;
-	}
-	return null;
+	return zeroHeightFor(machine, workZ, { referenceGaugeLineZ, masterTouchZ });
 }
 
 export interface MachineState {
@@ -310,7 +319,8 @@ export async function machineState(
 		});
 	}
 	const setups = await engineSetups(trx, machine, table, {
-		referenceGaugeLineZ: reference?.gaugeLineZ
+		referenceGaugeLineZ: reference?.gaugeLineZ,
+		masterTouchZ: await masterTouchZOf(trx, machine)
 	});
 	const used = {
 		work: [...new Set(setups.flatMap((s) => s.fixtures.map((f) => f.register)))],

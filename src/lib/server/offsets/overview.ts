@@ -1,5 +1,11 @@
 import type { Knex } from 'knex';
-import type { Finding } from '$lib/offsets';
+import {
+	concernsTool,
+	findingTitle,
+	concernsWork,
+	registerStatus,
+	type Finding
+} from '$lib/offsets';
 import { machineState, type MachineRecord } from './machine-state';
 
 export type RowStatus = 'ok' | 'caution' | 'stop' | 'stale' | 'unset';
@@ -29,16 +35,17 @@ export interface FixtureRow {
 	findings: Pick<Finding, 'kind' | 'severity' | 'message'>[];
 }
 
-/** Worst first: stop, then stale, then caution. */
+/** Worst first: not measured, stop, stale, caution — the engine's gate (registerStatus). */
 export function statusOf(value: number | null, findings: Finding[]): RowStatus {
-	if (value === null) return 'unset';
-	if (findings.some((f) => f.severity === 'stop')) return 'stop';
-	if (findings.some((f) => f.kind.startsWith('stale-'))) return 'stale';
-	if (findings.length > 0) return 'caution';
-	return 'ok';
+	return registerStatus(value, findings);
 }
 
-const brief = (f: Finding) => ({ kind: f.kind, severity: f.severity, message: f.message });
+const brief = (f: Finding) => ({
+	kind: f.kind,
+	title: findingTitle(f.kind),
+	severity: f.severity,
+	message: f.message
+});
 
 /** A machine's tools and fixtures with their current offsets, status and findings. */
 export async function machineOverview(
@@ -56,14 +63,10 @@ export async function machineOverview(
 		.whereNull('archived_at')
 		.orderBy('register');
 	const current = new Map(state.offsets.map((o) => [`${o.kind}:${o.register}`, o]));
-	const toolFindings = (h: number) =>
-		state.findings.filter(
-			(f) =>
-				(f.subject.type === 'tool' && f.subject.h === String(h)) ||
-				(f.subject.type === 'setup' && f.subject.h === String(h))
-		);
+	// One engine verdict per register (the gate), the same the load programs and setups use.
+	const toolFindings = (h: number) => state.findings.filter((f) => concernsTool(f, String(h)));
 	const fixtureFindings = (register: string) =>
-		state.findings.filter((f) => f.subject.type === 'fixture' && f.subject.register === register);
+		state.findings.filter((f) => concernsWork(f, register));
 
 	const toolRows: ToolRow[] = tools.map((t) => {
 		const o = current.get(`tool:${t.h_number}`);

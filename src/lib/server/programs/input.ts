@@ -42,6 +42,7 @@ export async function programSetupFor(
 		machine,
 		setup.clearanceMargin,
 		setup.fixtures,
+		setup.geometry,
 		String(setup.id)
 	);
 	if (!engineSetup) {
@@ -88,8 +89,17 @@ export async function programSetupFor(
 		machine: engineMachine(machine),
 		table: state.table,
 		setup: engineSetup,
-		...(state.reference?.gaugeLineZ != null
-			? { geometry: { referenceGaugeLineZ: state.reference.gaugeLineZ } }
+		...(setup.geometry.referenceGaugeLineZ !== null || setup.geometry.masterTouchZ !== null
+			? {
+					geometry: {
+						...(setup.geometry.referenceGaugeLineZ !== null
+							? { referenceGaugeLineZ: setup.geometry.referenceGaugeLineZ }
+							: {}),
+						...(setup.geometry.masterTouchZ !== null
+							? { masterTouchZ: setup.geometry.masterTouchZ }
+							: {})
+					}
+				}
 			: {}),
 		toolRegisters,
 		registerStatus: { work, tools }

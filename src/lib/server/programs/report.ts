@@ -137,7 +137,7 @@ export function buildReport(r: ReportInput): { filename: string; text: string } 
 		const line = findingLine(f);
 		const code = line !== null ? r.lineText.get(line) : undefined;
 		out.push(
-			`${i + 1}. **${f.severity === 'stop' ? 'STOP' : 'CAUTION'}** · ${KIND_LABEL[f.kind] ?? f.kind} (\`${f.kind}\`)${line !== null ? ` · line ${line}` : ''}`,
+			`${i + 1}. **${f.severity === 'stop' ? 'STOP' : 'CAUTION'}** · ${KIND_LABEL[f.kind] ?? f.kind}${line !== null ? ` · line ${line}` : ''}`,
 			`   ${f.message}`
 		);
 		if (code !== undefined) out.push(`   \`${code.replace(/`/g, "'")}\``);

@@ -1,4 +1,9 @@
-import type { Finding, ProgramCheckResult, RegisterState } from '$lib/offsets';
+import {
+	FINDING_TITLE,
+	type Finding,
+	type ProgramCheckResult,
+	type RegisterState
+} from '$lib/offsets';
 import type { CheckInput } from './input';
 
 /** How fresh a register's value is, as the badges say it. */
@@ -104,16 +109,5 @@ export function findingLine(f: Finding): number | null {
 	return f.subject.type === 'program-line' ? f.subject.line : null;
 }
 
-/** Short words for the kinds, for lists and the report (the engine's codes stay beside them). */
-export const KIND_LABEL: Record<string, string> = {
-	'low-traverse': 'Low rapid',
-	'no-length-comp': 'No length offset',
-	'units-mismatch': 'Units',
-	'unknown-work-offset': 'Unknown work offset',
-	'unknown-tool-offset': 'Unknown tool offset',
-	overtravel: 'Over travel',
-	'parse-error': 'Unreadable line',
-	'stale-age': 'Old offset',
-	'stale-reference': 'Offset before reference',
-	unset: 'Offset not measured'
-};
+/** Plain titles for the kinds: the one title table (src/lib/offsets/finding-titles.ts). */
+export const KIND_LABEL: Readonly<Record<string, string>> = FINDING_TITLE;

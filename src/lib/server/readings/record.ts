@@ -6,9 +6,16 @@
  */
 import type { Knex } from 'knex';
 import {
+	blockHeightSlip,
 	decimalsFor,
+	describeSlip,
+	findingTitle,
 	formatWithUnits,
 	isOffsetInputError,
+	makeFinding,
+	nameSlip,
+	resolvePolicy,
+	slipsIntoRange,
 	toolOffsetFromTouch,
 	workOffsetZFromPartTouch,
 	type Finding,
@@ -18,6 +25,8 @@ import { numberTextMessage, readNumberText } from '$lib/offsets/number-text';
 import { LENGTH_PLACES } from '$lib/schemas/number';
 import type { PartTopReadingForm, ToolReadingForm, TouchThrough } from '$lib/schemas/readings';
 import { audit } from '../audit';
+import { recheckMachine, resolveOverride } from '../fleet/recheck';
+import { masterTouchZOf } from '../offsets/clearance-setup';
 import {
 	currentOffsets,
 	engineMachine,
@@ -170,9 +179,118 @@ function engineIssues(e: unknown, map: Record<string, string>, machine: MachineR
 				};
 			}
 			const label = field === 'blockHeight' ? 'Block height' : 'Machine Z';
-			return { field, message: `${label} ${i.message}.` };
+			return { field, message: `${label} ${i.message}.${slipHint(machine, field, i.value)}` };
 		})
 	);
+}
+
+/**
+ * For a machine Z outside the travel (or a block taller than it), which typing slip explains it
+ * and the value it would give: " It is probably the decimal point … : -14.7502 in was likely meant."
+ */
+function slipHint(machine: MachineRecord, field: string, value: unknown): string {
+	if (typeof value !== 'number' || !Number.isFinite(value)) return '';
+	const range =
+		field === 'blockHeight' ? { min: 0, max: machine.zTravel } : { min: -machine.zTravel, max: 0 };
+	const slips = slipsIntoRange(value, range, machine.units, machine.resolution);
+	if (slips.length === 0) return '';
+	return ` It is ${slips.map((x) => describeSlip(x, machine.units, machine.resolution)).join('; or ')}.`;
+}
+
+/**
+ * Slips in what was typed at the machine, named with the value meant (./slips in the engine):
+ * the machine Z against the last reading of the same tool or fixture, and the block height
+ * against the offset it moves. A block slip that moves the offset past the shop's jump limit is
+ * a Stop; a machine Z slip is a Stop unless a change was recorded.
+ */
+function touchSlipFindings(
+	machine: MachineRecord,
+	subject: Finding['subject'],
+	label: string,
+	t: {
+		machineZ: number;
+		block: number;
+		value: number;
+		previous: number | null;
+		previousZ: number | null;
+		changed: boolean;
+	}
+): Finding[] {
+	const policy = resolvePolicy(undefined, machine.units);
+	const fmt = fmtOf(machine);
+	const out: Finding[] = [];
+	const block = blockHeightSlip({
+		block: t.block,
+		offset: t.value,
+		previousOffset: t.previous,
+		zTravel: machine.zTravel,
+		units: machine.units,
+		resolution: machine.resolution,
+		policy
+	});
+	if (block) {
+		out.push(
+			makeFinding(
+				block.kind,
+				'stop',
+				subject,
+				`Block height ${fmt(t.block)} is ${describeSlip(block, machine.units, machine.resolution)}. ` +
+					`It moves ${label} by ${fmt(Math.abs(block.moved))}${t.previous !== null ? `, more than the shop's jump limit of ${fmt(policy.jumpTolerance)}` : ''}; with ${fmt(block.corrected)} ${label} would be ${fmt(block.correctedOffset)}. Check the block and re-enter its height.`,
+				{ field: 'blockHeight', slip: block.rule, corrected: block.corrected }
+			)
+		);
+		return out;
+	}
+	if (t.previousZ !== null) {
+		const z = nameSlip(t.machineZ, t.previousZ, machine.units, machine.resolution, policy);
+		if (z) {
+			out.push(
+				makeFinding(
+					z.kind,
+					t.changed ? 'caution' : 'stop',
+					subject,
+					`Machine Z ${fmt(t.machineZ)} against the last reading ${fmt(t.previousZ)} is ${describeSlip(z, machine.units, machine.resolution)}. Read the control again and re-enter it.`,
+					{ field: 'machineZ', slip: z.rule, corrected: z.corrected }
+				)
+			);
+		}
+	}
+	return out;
+}
+
+/** Touch findings first; the engine's finding of the same kind on the register is then dropped. */
+function withTouchFindings(touch: Finding[], engine: BriefFinding[]): BriefFinding[] {
+	const kinds = new Set(touch.map((f) => f.kind));
+	return [...touch.map(brief), ...engine.filter((f) => !kinds.has(f.kind))].sort((a, b) =>
+		a.severity === b.severity ? 0 : a.severity === 'stop' ? -1 : 1
+	);
+}
+
+/** The machine Z of the newest uncorrected reading of a tool or fixture (same kind of touch). */
+async function previousMachineZ(
+	trx: Knex.Transaction,
+	machineId: number,
+	where: { toolId?: number; fixtureId?: number },
+	excludeReadingId: number | null
+): Promise<number | null> {
+	const r = await trx('readings as r')
+		.where('r.machine_id', machineId)
+		.modify((q) =>
+			where.fixtureId !== undefined
+				? q.where({ 'r.kind': 'part-top', 'r.fixture_id': where.fixtureId })
+				: q.where('r.tool_id', where.toolId!).whereIn('r.kind', ['tool-touch', 'tool-remeasure'])
+		)
+		.whereRaw('not exists (select 1 from readings c where c.corrects_reading_id = r.id)')
+		.whereRaw('cardinality(r.overridden_findings) = 0')
+		.modify((q) => {
+			if (excludeReadingId) q.whereNot('r.id', excludeReadingId);
+		})
+		.orderBy([
+			{ column: 'r.taken_at', order: 'desc' },
+			{ column: 'r.id', order: 'desc' }
+		])
+		.first('r.machine_z');
+	return r ? Number(r.machine_z) : null;
 }
 
 function requireReference(machine: MachineRecord, references: ReferenceRecord[]): ReferenceRecord {
@@ -320,24 +438,6 @@ function previousOf(history: HistoryEntry[] | undefined) {
 
 const fmtOf = (m: MachineRecord) => (v: number) => formatWithUnits(v, m.units, m.resolution);
 
-/** The master tool's last tip-on-reference reading (R + L_m), for the master-tool convention. */
-async function masterTouchZ(
-	trx: Knex.Transaction,
-	machine: MachineRecord
-): Promise<number | undefined> {
-	if (machine.convention !== 'master-tool' || !machine.masterToolH) return undefined;
-	const r = await trx('readings as r')
-		.join('tools as t', 't.id', 'r.tool_id')
-		.where({ 'r.machine_id': machine.id, 't.h_number': machine.masterToolH })
-		.whereIn('r.kind', ['tool-touch', 'tool-remeasure', 'reference'])
-		.orderBy([
-			{ column: 'r.taken_at', order: 'desc' },
-			{ column: 'r.id', order: 'desc' }
-		])
-		.first('r.machine_z', 'r.block_height');
-	return r ? Number(r.machine_z) - Number(r.block_height) : undefined;
-}
-
 interface Computed<P> {
 	preview: ReadingPreview;
 	parsed: P;
@@ -394,7 +494,9 @@ export async function previewToolReading(
 			setterHeight: block,
 			referenceGaugeLineZ: reference.gaugeLineZ ?? undefined,
 			masterTouchZ:
-				machine.masterToolH === tool.h ? machineZ! - block : await masterTouchZ(trx, machine),
+				machine.masterToolH === tool.h
+					? machineZ! - block
+					: ((await masterTouchZOf(trx, machine)) ?? undefined),
 			resolution: machine.resolution,
 			machine: engineMachine(machine)
 		});
@@ -427,7 +529,17 @@ export async function previewToolReading(
 			previous: prev?.value ?? null,
 			previousAt: prev?.measuredAt ?? null,
 			delta: prev ? Math.round((value - prev.value) * 1e6) / 1e6 : null,
-			findings: registerFindings(state.findings, 'tool', register),
+			findings: withTouchFindings(
+				touchSlipFindings(machine, { type: 'tool', h: register }, `H${register}`, {
+					machineZ: machineZ!,
+					block,
+					value,
+					previous: prev?.value ?? null,
+					previousZ: await previousMachineZ(trx, machine.id, { toolId: tool.id }, corrects),
+					changed: form.toolChanged
+				}),
+				registerFindings(state.findings, 'tool', register)
+			),
 			working,
 			toolFindings: [],
 			referenceVersion: reference.version
@@ -537,7 +649,17 @@ export async function previewPartTopReading(
 			previous: prev?.value ?? null,
 			previousAt: prev?.measuredAt ?? null,
 			delta: prev ? Math.round((value - prev.value) * 1e6) / 1e6 : null,
-			findings: registerFindings(state.findings, 'work', register),
+			findings: withTouchFindings(
+				touchSlipFindings(machine, { type: 'fixture', register }, register, {
+					machineZ: machineZ!,
+					block,
+					value,
+					previous: prev?.value ?? null,
+					previousZ: await previousMachineZ(trx, machine.id, { fixtureId: fixture.id }, corrects),
+					changed: form.fixtureChanged
+				}),
+				registerFindings(state.findings, 'work', register)
+			),
 			working: `${register} Z = machine Z ${fmt(machineZ!)} − block ${fmt(block)} − H${tool!.h} ${fmt(toolOffset!)} = ${fmt(value)}`,
 			toolFindings: registerFindings(state.findings, 'tool', String(tool!.h)).filter(
 				(f) => f.kind !== 'out-of-travel'
@@ -554,17 +676,55 @@ export interface Recorded {
 	preview: ReadingPreview;
 }
 
+/** What the operator chose in the override dialog. */
+export interface OverrideChoice {
+	requested: boolean;
+	reason: string;
+}
+
+/** The Stop findings a save would go over (the register's own and the touching tool's). */
+export function stopsOf(preview: ReadingPreview): BriefFinding[] {
+	return [...preview.findings, ...preview.toolFindings].filter((f) => f.severity === 'stop');
+}
+
+/**
+ * Server-side gate of the override: a value the checks call Stop is saved only with "Save
+ * anyway" and a reason, whatever the page sent. Nothing is written when it refuses.
+ */
+function requireOverride(machine: MachineRecord, preview: ReadingPreview, o: OverrideChoice) {
+	const stops = stopsOf(preview);
+	if (stops.length === 0) return null;
+	if (o.requested && o.reason.trim().length > 0) return stops;
+	const titles = [...new Set(stops.map((f) => findingTitle(f.kind)))].join('; ');
+	throw ReadingInputError.of(
+		'overrideReason',
+		`${preview.label} ${fmtOf(machine)(preview.value)} is Stop (${titles}). It was not saved: re-measure it, or choose "Save anyway" and give the reason.`
+	);
+}
+
 async function writeReadingAndOffset(
 	trx: Knex.Transaction,
 	machine: MachineRecord,
 	actor: Actor,
 	reading: Record<string, unknown>,
 	preview: ReadingPreview,
-	auditTarget: string
+	auditTarget: string,
+	override: OverrideChoice
 ): Promise<Recorded> {
+	const overridden = requireOverride(machine, preview, override);
 	const [r] = await trx('readings')
-		.insert({ machine_id: machine.id, taken_by: actor.id, ...reading })
-		.returning('id');
+		.insert({
+			machine_id: machine.id,
+			taken_by: actor.id,
+			...reading,
+			...(overridden
+				? {
+						override_reason: override.reason.trim(),
+						overridden_findings: [...new Set(overridden.map((f) => f.kind))]
+					}
+				: {})
+		})
+		.returning(['id', 'taken_at']);
 	const [o] = await trx('offset_versions')
 		.insert({
 			machine_id: machine.id,
@@ -598,7 +758,73 @@ async function writeReadingAndOffset(
 			...(reading.reason ? { reason: reading.reason } : {})
 		}
 	});
+	const subjectKey =
+		preview.registerKind === 'tool' ? `tool:H${preview.register}` : `fixture:${preview.register}`;
+	const what = `the new reading of ${preview.label}`;
+	if (overridden) {
+		await recordOverride(trx, machine, actor, preview, overridden, override.reason.trim(), {
+			readingId: Number(r.id),
+			subjectKey,
+			auditTarget
+		});
+	} else {
+		await resolveOverride(trx, machine.id, subjectKey, {
+			what: `${what} (reading #${r.id})`,
+			by: actor.id
+		});
+	}
+	// Findings follow the data: this machine's checks again, in this transaction.
+	await recheckMachine(trx, machine, { what, by: actor.id }, new Date(r.taken_at));
 	return { readingId: Number(r.id), offsetVersionId: Number(o.id), preview };
+}
+
+/** The override's audit entry and its finding, which leads see on the board and in the digest. */
+async function recordOverride(
+	trx: Knex.Transaction,
+	machine: MachineRecord,
+	actor: Actor,
+	preview: ReadingPreview,
+	overridden: BriefFinding[],
+	reason: string,
+	ref: { readingId: number; subjectKey: string; auditTarget: string }
+) {
+	const user = await trx('public.users').where({ id: actor.id }).first('name');
+	const who = user?.name || actor.email;
+	const titles = [...new Set(overridden.map((f) => findingTitle(f.kind)))].join('; ');
+	await audit(trx, {
+		actorUserId: actor.id,
+		actorEmail: actor.email,
+		ip: actor.ip,
+		action: 'reading.override',
+		target: ref.auditTarget,
+		detail: {
+			machineId: machine.id,
+			readingId: ref.readingId,
+			register: preview.label,
+			value: preview.value,
+			units: machine.units,
+			overridden: overridden.map((f) => f.kind),
+			reason
+		}
+	});
+	const now = new Date().toISOString();
+	await trx.raw(
+		`insert into findings as f (key, machine_id, kind, severity, subject_type, subject, message,
+			status, first_seen_at, last_seen_at, previous_finding_id)
+		values (:key, :machineId, 'override', 'stop', :subjectType, :subject, :message, 'open', :now, :now,
+			(select p.id from findings p where p.key = :key and p.status = 'resolved'
+				order by p.resolved_at desc nulls last, p.id desc limit 1))
+		on conflict (key) where status <> 'resolved' do update set
+			message = excluded.message, last_seen_at = excluded.last_seen_at`,
+		{
+			key: `m${machine.id}|override|${ref.subjectKey}`,
+			machineId: machine.id,
+			subjectType: preview.registerKind === 'tool' ? 'tool' : 'fixture',
+			subject: preview.label,
+			message: `${preview.label} was saved as ${fmtOf(machine)(preview.value)} over a Stop (${titles}) by ${who} (reading #${ref.readingId}): "${reason}". It stays out of load programs; check it at the control or re-measure it.`,
+			now
+		}
+	);
 }
 
 const instrumentText = (through: TouchThrough, block: number, machine: MachineRecord) =>
@@ -632,7 +858,8 @@ export async function recordToolReading(
 			reason: form.reason
 		},
 		preview,
-		`${machine.name} T${parsed.tool.t} H${parsed.tool.h}`
+		`${machine.name} T${parsed.tool.t} H${parsed.tool.h}`,
+		{ requested: form.override, reason: form.overrideReason }
 	);
 }
 
@@ -663,6 +890,7 @@ export async function recordPartTopReading(
 			reason: form.reason
 		},
 		preview,
-		`${machine.name} ${parsed.fixture.register}`
+		`${machine.name} ${parsed.fixture.register}`,
+		{ requested: form.override, reason: form.overrideReason }
 	);
 }

@@ -8,6 +8,7 @@ import type { Knex } from 'knex';
 import { checkOffsets, formatWithUnits } from '$lib/offsets';
 import type { ReferenceReadingForm } from '$lib/schemas/readings';
 import { audit } from '../audit';
+import { recheckMachine } from '../fleet/recheck';
 import { listReferences, machineState, type MachineRecord } from '../offsets/machine-state';
 import { findTool, parseLength, ReadingInputError, type Actor, type ReadingIssue } from './record';
 
@@ -202,6 +203,11 @@ export async function recordReference(
 			...(preview.shift ? { shift: preview.shift.delta } : {}),
 			...(readingId ? { readingId } : {})
 		}
+	});
+	// Findings follow the data: what the new reference makes stale shows at once.
+	await recheckMachine(trx, machine, {
+		what: `re-establishing the reference (v${preview.version})`,
+		by: actor.id
 	});
 	return { referenceId: Number(ref.id), version: preview.version, readingId, preview };
 }

@@ -2,10 +2,26 @@ import { error } from '@sveltejs/kit';
 import { describeValue } from '$lib/offsets/errors';
 import { isOffsetInputError, loadProgram, type OffsetTable } from '$lib/offsets';
 import { engineMachine, type MachineRecord } from '../offsets/machine-state';
+import { gateReason, isWithheld, type GatedRegister } from '../offsets/gate';
 
 /** A load program, or the reasons it cannot be written (the engine's own words). */
 export type LoadProgramResult =
-	{ ok: true; text: string; filename: string } | { ok: false; reasons: string[] };
+	| {
+			ok: true;
+			text: string;
+			filename: string;
+			/** Stop or stale registers left out, and those a lead included with a warning. */
+			withheld: GatedRegister[];
+			included: GatedRegister[];
+	  }
+	| { ok: false; reasons: string[] };
+
+/** The gate's say in a load program: the verdicts, and whether a lead includes the flagged. */
+export interface LoadProgramGate {
+	rows: GatedRegister[];
+	/** A lead's explicit choice to include Stop and stale registers (their name for the comment). */
+	includeFlaggedBy?: string;
+}
 
 /** "Mill 1", "Pump housing, ops A and B" → "mill-1-pump-housing-ops-a-and-b". */
 export function fileSlug(...parts: string[]): string {
@@ -27,7 +43,7 @@ export function fileSlug(...parts: string[]): string {
 export function buildLoadProgram(
 	machine: MachineRecord,
 	table: OffsetTable,
-	opts: { title: string; filename: string; missing?: string[] }
+	opts: { title: string; filename: string; missing?: string[]; gate?: LoadProgramGate }
 ): LoadProgramResult {
 	if (opts.missing && opts.missing.length > 0) {
 		return {
@@ -41,9 +57,29 @@ export function buildLoadProgram(
 	if (Object.keys(table.work).length === 0 && Object.keys(table.tools).length === 0) {
 		return { ok: false, reasons: [`${machine.name} has no measured offsets to load yet.`] };
 	}
+	// The gate: Stop and stale registers are withheld unless a lead includes them on purpose.
+	const inTable = (r: GatedRegister) =>
+		(r.section === 'work' ? table.work : table.tools)[r.register] !== undefined;
+	const flagged = (opts.gate?.rows ?? []).filter((r) => isWithheld(r) && inTable(r));
+	const by = opts.gate?.includeFlaggedBy;
+	const withheld = by ? [] : flagged;
+	const included = by ? flagged : [];
+	// Everything withheld still gives a file: its comments say what was left out and why.
 	try {
-		const text = loadProgram(engineMachine(machine), table, { title: opts.title.slice(0, 60) });
-		return { ok: true, text, filename: `${opts.filename}.nc` };
+		const text = loadProgram(engineMachine(machine), table, {
+			title: opts.title.slice(0, 60),
+			withheld: withheld.map((r) => ({
+				section: r.section,
+				register: r.register,
+				reason: `${gateReason(r)} - RE-MEASURE IT`.slice(0, 300)
+			})),
+			warnings: included.map((r) => ({
+				section: r.section,
+				register: r.register,
+				reason: `${gateReason(r)} - INCLUDED BY ${by} - CHECK IT AT THE CONTROL`.slice(0, 300)
+			}))
+		});
+		return { ok: true, text, filename: `${opts.filename}.nc`, withheld, included };
 	} catch (e) {
 		if (!isOffsetInputError(e)) throw e;
 		return {

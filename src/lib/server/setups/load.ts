@@ -14,12 +14,19 @@ export async function setupFromParam(
 	return setup;
 }
 
-/** The setup's load program (its fixtures' and tools' registers only), or why not. */
-export function setupLoadProgram(setup: SetupDetail): LoadProgramResult {
+/**
+ * The setup's load program (its fixtures' and tools' registers only), or why not. Stop and stale
+ * registers are withheld unless `includeFlaggedBy` (a lead's name) includes them with warnings.
+ */
+export function setupLoadProgram(setup: SetupDetail, includeFlaggedBy?: string): LoadProgramResult {
 	const { table, missing } = setupTable(setup);
 	return buildLoadProgram(setup.machine, table, {
 		title: `${setup.machine.name} ${setup.name}`,
 		filename: fileSlug(setup.machine.name, setup.name),
-		missing
+		missing,
+		gate: {
+			rows: [...setup.fixtures.map((f) => f.gate), ...setup.tools.map((t) => t.gate)],
+			...(includeFlaggedBy ? { includeFlaggedBy } : {})
+		}
 	});
 }

@@ -12,11 +12,17 @@ import {
 	getMachine,
 	listReferences,
 	toMachineRecord,
-	zeroHeightOf,
 	type CurrentOffset,
 	type MachineRecord,
 	type ReferenceRecord
 } from '../offsets/machine-state';
+import {
+	clearanceSetup,
+	masterTouchZOf,
+	zeroHeightFor,
+	type ClearanceGeometry
+} from '../offsets/clearance-setup';
+import { gated, machineGate, type GatedRegister } from '../offsets/gate';
 
 /** `trx` is always a shop transaction (withShop): these read the shop's own tables. */
 
@@ -90,6 +96,8 @@ export interface SetupFixture {
 	zeroHeight: number | null;
 	/** Lowest safe retract Z in this fixture's coordinates, from the engine. */
 	clearance: number | null;
+	/** The gate's verdict on this register (status, findings, measured when and by whom). */
+	gate: GatedRegister;
 }
 
 export interface SetupTool {
@@ -100,6 +108,7 @@ export interface SetupTool {
 	holder: string;
 	offset: number | null;
 	measuredAt: string | null;
+	gate: GatedRegister;
 }
 
 export interface SetupOp {
@@ -143,6 +152,8 @@ export interface SetupDetail {
 	ops: SetupOp[];
 	photos: SetupPhoto[];
 	history: StatusChange[];
+	/** Geometry the clearance planes were worked out with (R, R + L_m when known). */
+	geometry: ClearanceGeometry;
 	clearance: {
 		/** Register → lowest safe retract Z (fixture coordinates), from the engine. */
 		planes: Record<string, number>;
@@ -153,23 +164,18 @@ export interface SetupDetail {
 	};
 }
 
-/** The engine's Setup for these fixtures: those with a known h_k, obstacles from all of them. */
+/**
+ * The engine's Setup for these fixtures, by the one clearance builder
+ * (server/offsets/clearance-setup): planes for fixtures with a known h_k, obstacles from all.
+ */
 export function engineSetupFor(
 	machine: MachineRecord,
 	margin: number,
-	fixtures: Pick<SetupFixture, 'register' | 'zeroHeight' | 'obstacleHeight'>[],
+	fixtures: Pick<SetupFixture, 'register' | 'workOffset' | 'obstacleHeight'>[],
+	geometry: ClearanceGeometry,
 	id?: string
 ): Setup | null {
-	const usable = fixtures.filter((f) => f.zeroHeight !== null);
-	if (usable.length === 0) return null;
-	return {
-		...(id ? { id } : {}),
-		units: machine.units,
-		resolution: machine.resolution,
-		margin,
-		fixtures: usable.map((f) => ({ register: f.register, zeroHeight: f.zeroHeight! })),
-		obstacles: fixtures.map((f) => ({ label: f.register, height: f.obstacleHeight }))
-	};
+	return clearanceSetup(machine, margin, fixtures, geometry, id ? { id } : {});
 }
 
 /** Why a fixture's program-zero height is not known (for the clearance column). */
@@ -183,7 +189,7 @@ function zeroHeightProblem(
 		return `${f.register} has never been measured, so its clearance plane cannot be worked out yet.`;
 	if (machine.convention === 'gauge-length' && reference?.gaugeLineZ == null)
 		return `${f.register}: the reference's gauge-line Z is not known, so the part-top height above the reference cannot be worked out.`;
-	return `${f.register}: clearance planes are not worked out for the ${machine.convention} convention yet.`;
+	return `${f.register}: the master tool (H${machine.masterToolH ?? '?'}) has no touch on the reference yet, so the part-top height above the reference cannot be worked out.`;
 }
 
 /** One setup with its machine, offsets, clearance planes, photos and history; undefined if none. */
@@ -209,6 +215,12 @@ export async function getSetupDetail(
 	const reference = references[0] ?? null;
 	const offsets = await currentOffsets(trx, machine.id);
 	const byRegister = new Map(offsets.map((o) => [`${o.kind}:${o.register}`, o]));
+	const geometry: ClearanceGeometry = {
+		referenceGaugeLineZ: reference?.gaugeLineZ ?? null,
+		masterTouchZ: await masterTouchZOf(trx, machine)
+	};
+	// The gate: the engine's verdict on every register, with who measured it and when.
+	const gate = await machineGate(trx, machine);
 
 	const fxRows = await trx('setup_fixtures as sf')
 		.join('fixtures as f', 'f.id', 'sf.fixture_id')
@@ -226,11 +238,9 @@ export async function getSetupDetail(
 			obstacleHeight: Number(r.obstacle_height),
 			workOffset,
 			measuredAt: o?.measuredAt ?? null,
-			zeroHeight:
-				workOffset === null
-					? null
-					: zeroHeightOf(machine, workOffset, reference?.gaugeLineZ ?? null),
-			clearance: null
+			zeroHeight: workOffset === null ? null : zeroHeightFor(machine, workOffset, geometry),
+			clearance: null,
+			gate: gated(gate, 'work', r.register)
 		};
 	});
 
@@ -240,7 +250,7 @@ export async function getSetupDetail(
 		.filter((p): p is string => p !== null);
 	let planes: Record<string, number> = {};
 	let tallest: number | null = null;
-	const engineSetup = engineSetupFor(machine, margin, fixtures, String(setupId));
+	const engineSetup = engineSetupFor(machine, margin, fixtures, geometry, String(setupId));
 	if (engineSetup) {
 		try {
 			planes = clearancePlanes(engineSetup);
@@ -266,7 +276,8 @@ export async function getSetupDetail(
 			description: r.description,
 			holder: r.holder,
 			offset: o?.value ?? null,
-			measuredAt: o?.measuredAt ?? null
+			measuredAt: o?.measuredAt ?? null,
+			gate: gated(gate, 'tools', String(r.h_number))
 		};
 	});
 
@@ -326,6 +337,7 @@ export async function getSetupDetail(
 		ops,
 		photos,
 		history,
+		geometry,
 		clearance: { planes, tallest, problems }
 	};
 }

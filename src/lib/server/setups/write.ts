@@ -7,6 +7,7 @@ import {
 	type SetupState
 } from '$lib/schemas/setups';
 import { audit } from '../audit';
+import { latestSignoff } from './signoff';
 import { getMachine } from '../offsets/machine-state';
 
 /** `trx` is always a shop transaction (withShop). */
@@ -321,6 +322,19 @@ export async function changeSetupStatus(
 				{
 					field: 'to',
 					message: `A setup that is ${SETUP_STATE_LABEL[from].toLowerCase()} cannot become ${SETUP_STATE_LABEL[to].toLowerCase()}${next ? `: next is ${SETUP_STATE_LABEL[next].toLowerCase()}` : ': it is closed; copy it to run the job again'}.`
+				}
+			]
+		};
+	}
+	// Proven means someone entered, verified at the control and checked the first part: signed off.
+	if (to === 'proven' && !(await latestSignoff(trx, setupId))) {
+		return {
+			ok: false,
+			issues: [
+				{
+					field: 'to',
+					message:
+						'A setup becomes proven only with its sign-off: record who entered the offsets, who verified them at the control and who checked the first part.'
 				}
 			]
 		};

@@ -8,6 +8,7 @@ import {
 	photoCaptionSchema,
 	photoIdSchema,
 	setupFormSchema,
+	setupSignoffSchema,
 	setupStatusSchema,
 	SETUP_STATE_LABEL
 } from '$lib/schemas/setups';
@@ -16,6 +17,9 @@ import { db } from '$lib/server/db';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { failWithIssues } from '$lib/server/setups/forms';
+import { clientAddress } from '$lib/server/auth/client-address';
+import { gateReason } from '$lib/server/offsets/gate';
+import { latestSignoff, recordSignoff } from '$lib/server/setups/signoff';
 import { setupFromParam, setupLoadProgram } from '$lib/server/setups/load';
 import { addSetupPhoto, PHOTO_MAX_BYTES, removeSetupPhoto } from '$lib/server/setups/photos';
 import { setupChoices } from '$lib/server/setups/queries';
@@ -33,12 +37,18 @@ export const load: PageServerLoad = async (event) => {
 			id: 'setup'
 		});
 		const program = setupLoadProgram(setup);
+		const signoff = await latestSignoff(trx, setup.id);
 		return {
+			signoff,
+			canIncludeFlagged: can(role, 'machines.write'),
 			setup,
 			machines,
 			form,
 			loadProgram: program.ok
-				? { ok: true as const }
+				? {
+						ok: true as const,
+						withheld: program.withheld.map((r) => ({ label: r.label, reason: gateReason(r) }))
+					}
 				: { ok: false as const, reasons: program.reasons },
 			canWrite: can(role, 'setups.write'),
 			editable: EDITABLE_STATES.includes(setup.status),
@@ -75,6 +85,18 @@ export const actions: Actions = {
 		});
 		if (!result.ok) return refused('status', result.issues[0].message, 409);
 		return done('status', `Now ${SETUP_STATE_LABEL[result.value].toLowerCase()}.`);
+	},
+
+	signoff: async (event) => {
+		const { shop, user } = await requireMember(event, 'setups.write');
+		const parsed = setupSignoffSchema.safeParse(Object.fromEntries(await event.request.formData()));
+		if (!parsed.success)
+			return refused('signoff', parsed.error.issues.map((i) => i.message).join(' '));
+		await withShop(shop, async (trx) => {
+			const setup = await setupFromParam(trx, event.params.setup);
+			await recordSignoff(trx, setup.id, parsed.data, user, clientAddress(event));
+		});
+		return done('signoff', 'Sign-off recorded: the setup can now be marked proven.');
 	},
 
 	copy: async (event) => {

@@ -1,7 +1,8 @@
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
-import { currentOffsets, tableFrom } from '$lib/server/offsets/machine-state';
+import { machineGate } from '$lib/server/offsets/gate';
+import { auditIncluded, includeFlaggedRequested } from '$lib/server/setups/include-flagged';
 import {
 	buildLoadProgram,
 	fileSlug,
@@ -10,16 +11,26 @@ import {
 } from '$lib/server/setups/load-program';
 import type { RequestHandler } from './$types';
 
-/** Every current offset of the machine as one `.nc` load program, or the engine's reasons (422). */
+/**
+ * Every current offset of the machine as one `.nc` load program, or the engine's reasons (422).
+ * Stop and stale registers are withheld unless a lead asks for `?include=flagged` (audited).
+ */
 export const GET: RequestHandler = async (event) => {
-	const { shop } = await requireMember(event, 'machines.read');
-	const { machine, table } = await withShop(shop, async (trx) => {
+	const { shop, role, user } = await requireMember(event, 'machines.read');
+	const include = includeFlaggedRequested(event, role);
+	const { machine, result } = await withShop(shop, async (trx) => {
 		const machine = await machineFromParam(trx, event.params.machine);
-		return { machine, table: tableFrom(machine, await currentOffsets(trx, machine.id)) };
-	});
-	const result = buildLoadProgram(machine, table, {
-		title: machine.name,
-		filename: fileSlug(machine.name, 'all offsets')
+		const gate = await machineGate(trx, machine);
+		const result = buildLoadProgram(machine, gate.state.table, {
+			title: machine.name,
+			filename: fileSlug(machine.name, 'all offsets'),
+			gate: {
+				rows: [...Object.values(gate.work), ...Object.values(gate.tools)],
+				...(include ? { includeFlaggedBy: user.name || user.email } : {})
+			}
+		});
+		if (result.ok) await auditIncluded(trx, event, user, machine.name, result.included);
+		return { machine, result };
 	});
 	if (result.ok) return programResponse(result);
 	return refusalResponse(

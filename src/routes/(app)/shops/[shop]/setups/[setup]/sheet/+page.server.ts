@@ -2,6 +2,7 @@ import { CONTROL_STYLE_LABEL } from '$lib/offsets';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { setupFromParam, setupLoadProgram } from '$lib/server/setups/load';
+import { latestSignoff } from '$lib/server/setups/signoff';
 import type { PageServerLoad } from './$types';
 
 /** The printable setup sheet: everything on one or two pages, as of the moment it is printed. */
@@ -15,8 +16,13 @@ export const load: PageServerLoad = async (event) => {
 			setup,
 			controlStyle: CONTROL_STYLE_LABEL[setup.machine.controlStyle],
 			loadProgram: program.ok
-				? { ok: true as const, filename: program.filename }
+				? {
+						ok: true as const,
+						filename: program.filename,
+						withheld: program.withheld.map((r) => r.label)
+					}
 				: { ok: false as const, reasons: program.reasons },
+			signoff: await latestSignoff(trx, setup.id),
 			printedAt: new Date().toISOString(),
 			printedBy: user.name,
 			paper: paper === 'a4' || paper === 'letter' ? paper : null

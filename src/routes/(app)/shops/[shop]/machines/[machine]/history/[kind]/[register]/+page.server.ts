@@ -22,6 +22,15 @@ function currentOf(o: Overview, kind: 'tool' | 'work', register: string) {
 		: null;
 }
 
+/** What a reading saved over a Stop says about itself, or null for an ordinary save. */
+function overrideOf(
+	r: { override_reason: string; overridden_findings: string[] } | undefined
+): { reason: string; kinds: string[] } | null {
+	return r && r.overridden_findings.length > 0
+		? { reason: String(r.override_reason), kinds: r.overridden_findings }
+		: null;
+}
+
 /** Every recorded version of one offset: table, drift chart, and links to correct a reading. */
 export const load: PageServerLoad = async (event) => {
 	const { shop, role } = await requireMember(event, 'machines.read');
@@ -39,6 +48,14 @@ export const load: PageServerLoad = async (event) => {
 		if (rows.length === 0 && tools.length === 0 && !fixture)
 			error(404, `${machine.name} has no ${kind === 'tool' ? `H${register}` : register}.`);
 		const dep = REFERENCE_DEPENDENCE[machine.convention];
+		const savedId = Number(event.url.searchParams.get('saved')) || null;
+		// A reading saved over a Stop gets a message that says so (not a green "saved").
+		const saved: { override_reason: string; overridden_findings: string[] } | undefined =
+			savedId && Number.isSafeInteger(savedId)
+				? await trx('readings')
+						.where({ id: savedId, machine_id: machine.id })
+						.first('override_reason', 'overridden_findings')
+				: undefined;
 		return {
 			machine,
 			kind: kind as 'tool' | 'work',
@@ -57,7 +74,8 @@ export const load: PageServerLoad = async (event) => {
 				kind === 'tool'
 					? dep.machineShift.tools || dep.surfaceMoved.tools
 					: dep.machineShift.work || dep.surfaceMoved.work,
-			savedReadingId: Number(event.url.searchParams.get('saved')) || null,
+			savedReadingId: savedId,
+			savedOverride: overrideOf(saved),
 			canRecord: can(role, 'setups.write')
 		};
 	});
