@@ -97,5 +97,12 @@ export {
 	type ProgramCheckResult,
 	type ProgramStats,
 	type ProgramSetup,
-	type RegisterState
+	type RegisterState,
+	DIALECTS,
+	createSubprogramCollector,
+	type Dialect,
+	type DialectFrom,
+	type ProgramProfile,
+	type ProfilePoint,
+	type SubprogramLibrary
 } from './program';

@@ -11,6 +11,15 @@ export {
 	type ProgramStats
 } from './checker';
 export {
+	DIALECTS,
+	dialectRules,
+	type Dialect,
+	type DialectFrom,
+	type DialectRules
+} from './dialect';
+export type { ProgramProfile, ProfilePoint } from './profile';
+export { createSubprogramCollector, type SubprogramLibrary } from './structure';
+export {
 	programSetupSchema,
 	REGISTER_STATES,
 	type ProgramSetup,

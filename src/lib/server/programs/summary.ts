@@ -113,6 +113,8 @@ export const KIND_LABEL: Record<string, string> = {
 	'unknown-tool-offset': 'Unknown tool offset',
 	overtravel: 'Over travel',
 	'parse-error': 'Unreadable line',
+	'rapid-into-part': 'Rapid into the part',
+	'heights-unknown': 'Heights unknown',
 	'stale-age': 'Old offset',
 	'stale-reference': 'Offset before reference',
 	unset: 'Offset not measured'
