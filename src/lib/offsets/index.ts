@@ -89,6 +89,7 @@ export { gaugeStack } from './gauge-blocks';
 export { GAUGE_SETS, findGaugeSet, gaugeSetBlocks, type GaugeSet } from './gauge-sets';
 export {
 	checkProgram,
+	checkProgramStream,
 	createProgramChecker,
 	programSetupSchema,
 	REGISTER_STATES,

@@ -18,7 +18,6 @@ import { Profile, type ProgramProfile } from './profile';
 import { scanLine } from './scanner';
 import type { ProgramSetup } from './schema';
 import {
-	createSubprogramCollector,
 	OKind,
 	readOLine,
 	SubprogramRecorder,
@@ -89,6 +88,12 @@ export interface ProgramChecker {
 	end(): ProgramCheckResult;
 	/** Lines read so far (for progress). */
 	readonly lines: number;
+	/**
+	 * After `end()`: the file's subprograms when a call came before its body (ISO-style bodies
+	 * after M30), else null. Check again with them (`createProgramChecker(setup, library)`) to
+	 * follow those calls too; `checkProgram` and `checkProgramStream` do so themselves.
+	 */
+	laterSubprograms(): SubprogramLibrary | null;
 }
 
 class StreamChecker implements ProgramChecker {
@@ -101,6 +106,8 @@ class StreamChecker implements ProgramChecker {
 	private readonly stack: string[] = [];
 	private readonly profile: Profile | null;
 	private calledLines = 0;
+	/** Calls made before their body was read (followed only on a second pass). */
+	private readonly missed = new Set<string>();
 	private callsFollowed = 0;
 	private result: ProgramCheckResult | null = null;
 
@@ -204,7 +211,10 @@ class StreamChecker implements ProgramChecker {
 				reps = Math.trunc(n / 10000);
 			}
 		}
-		if (sub === undefined) return this.run.loseHeights(line, why.external(shown));
+		if (sub === undefined) {
+			if (this.missed.size < 1000) this.missed.add(name);
+			return this.run.loseHeights(line, why.external(shown));
+		}
 		if (this.stack.includes(name) || this.stack.length >= MAX_CALL_DEPTH)
 			return this.run.loseHeights(line, why.recursion(shown));
 		this.callsFollowed++;
@@ -226,6 +236,16 @@ class StreamChecker implements ProgramChecker {
 			this.run.depth = depth;
 			this.run.returned = false;
 		}
+	}
+
+	laterSubprograms(): SubprogramLibrary | null {
+		if (this.result === null) return null;
+		for (const name of this.missed) {
+			if (this.library.has(name)) return this.library;
+			if (/^\d{5,8}$/.test(name) && this.library.has(String(Number(name) % 10000)))
+				return this.library;
+		}
+		return null;
 	}
 
 	private notText(): void {
@@ -308,14 +328,39 @@ export function createProgramChecker(
  */
 export function checkProgram(text: string, setup: ProgramSetup): ProgramCheckResult {
 	const ctx = resolveContext(setup);
-	let library: SubprogramLibrary | undefined;
-	if (typeof text === 'string') {
-		// First pass: the file's subprograms, so a call is followed wherever its body is.
-		const collect = createSubprogramCollector();
-		collect.push(text);
-		library = collect.end();
-	}
-	const checker = new StreamChecker(ctx, library);
-	checker.push(typeof text === 'string' ? text : (text as unknown as string));
-	return checker.end();
+	const first = new StreamChecker(ctx);
+	first.push(typeof text === 'string' ? text : (text as unknown as string));
+	const result = first.end();
+	// A call came before its body (ISO-style subprograms after M30): once more, knowing them.
+	const library = first.laterSubprograms();
+	if (library === null) return result;
+	const second = new StreamChecker(ctx, library);
+	second.push(text);
+	return second.end();
+}
+
+/**
+ * Checks a program read piece by piece from a source that can be read again (a stored file):
+ * one pass, and a second only when a subprogram is called before its body is written.
+ * @throws OffsetInputError when the setup cannot be used (never for the program text)
+ */
+export async function checkProgramStream(
+	read: () => AsyncIterable<string>,
+	setup: ProgramSetup,
+	onProgress?: (lines: number, pass: 1 | 2) => Promise<void> | void
+): Promise<ProgramCheckResult> {
+	const ctx = resolveContext(setup);
+	const run = async (library: SubprogramLibrary | undefined, pass: 1 | 2) => {
+		const checker = new StreamChecker(ctx, library);
+		for await (const chunk of read()) {
+			checker.push(chunk);
+			if (onProgress) await onProgress(checker.lines, pass);
+		}
+		return checker;
+	};
+	const first = await run(undefined, 1);
+	const result = first.end();
+	const library = first.laterSubprograms();
+	if (library === null) return result;
+	return (await run(library, 2)).end();
 }

@@ -4,6 +4,7 @@
  */
 export {
 	checkProgram,
+	checkProgramStream,
 	createProgramChecker,
 	MAX_LINE_CHARS,
 	type ProgramChecker,
