@@ -95,9 +95,20 @@ export class Block {
 	/** A G or M code given by a parameter (`G#1`): what the block does is not known. */
 	unknownCode = false;
 
+	/** Letters given on this line (so reset clears only those). */
+	readonly given = new Uint8Array(26);
+	givenCount = 0;
+
+	/** Marks letter `letter` as given with `state` (NUMBER or UNKNOWN). */
+	mark(letter: number, state: number): void {
+		if (this.has[letter] === ABSENT) this.given[this.givenCount++] = letter;
+		this.has[letter] = state;
+	}
+
 	/** Clears for the next line. */
 	reset(): void {
-		this.has.fill(0);
+		for (let i = 0; i < this.givenCount; i++) this.has[this.given[i]] = ABSENT;
+		this.givenCount = 0;
 		this.gCount = 0;
 		this.mCount = 0;
 		this.words = 0;

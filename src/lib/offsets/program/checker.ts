@@ -119,7 +119,7 @@ class StreamChecker implements ProgramChecker {
 		this.run = new Interpreter(ctx, this.out);
 		this.profile = ctx.profile ? new Profile() : null;
 		this.run.profile = this.profile;
-		this.split = new LineSplitter((text, start, end, long) => this.line(text, start, end, long));
+		this.split = new LineSplitter(this);
 		// With a library from a first pass, bodies are only told apart here, not kept again.
 		this.structure = new SubprogramRecorder(library === undefined, false);
 		this.library = library ?? this.structure.library;
@@ -153,7 +153,8 @@ class StreamChecker implements ProgramChecker {
 		return this.result;
 	}
 
-	private line(text: string, start: number, end: number, long: boolean): void {
+	/** One physical line (called by the splitter). */
+	line(text: string, start: number, end: number, long: boolean): void {
 		const lineNo = ++this.run.tally.lines;
 		try {
 			if (long) {

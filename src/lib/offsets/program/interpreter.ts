@@ -97,6 +97,8 @@ export class Interpreter {
 	private rapidMove = false;
 	private currentLine = 0;
 	private unknownMotion = '';
+	/** The motion mode is a drilling cycle. */
+	private inCycle = false;
 
 	/** Spindle (gauge-line) machine Z; NaN until a move or a known position sets it. */
 	private machineZ = Number.NaN;
@@ -265,20 +267,27 @@ export class Interpreter {
 		if (work >= 0) this.selectWork(b, work, line);
 		if (distance >= 0) this.absolute = distance === 900;
 		if (retract >= 0) this.retractToStart = retract === 980;
-		if (cancel) this.motion = -1;
+		if (cancel) this.setMotion(-1);
 		if (unknownCode >= 0) {
 			// Not a code the check knows: it may be a motion of its own (G33.1, G12, G150…), so
 			// nothing it moves is followed until a known motion code and an absolute Z.
-			this.motion = UNKNOWN_MOTION;
+			this.setMotion(UNKNOWN_MOTION);
 			this.unknownMotion = gText(unknownCode);
 			this.loseHeights(line, why.unknownCode(this.unknownMotion));
 		} else if (motionCode !== -2) {
-			const wasCycle = this.isCycle(this.motion);
-			this.motion = motionCode === 800 ? -1 : motionCode;
-			if (this.isCycle(this.motion) && !wasCycle) this.cycleStart = this.machineZ;
+			const wasCycle = this.inCycle;
+			this.setMotion(motionCode === 800 ? -1 : motionCode);
+			if (this.inCycle && !wasCycle) this.cycleStart = this.machineZ;
 		}
 		if (!axesTaken) this.axes(b, line, home, machineCoords, motionCode);
 		if (callM !== 0) this.mCall(b, callM, line);
+	}
+
+	/** Sets the motion mode and whether it is a drilling cycle (looked up once, not per move). */
+	private setMotion(motion: number): void {
+		if (motion === this.motion) return;
+		this.motion = motion;
+		this.inCycle = this.isCycle(motion);
 	}
 
 	private isCycle(motion: number): boolean {
@@ -288,7 +297,7 @@ export class Interpreter {
 	private axes(b: Block, line: number, home: boolean, machineCoords: boolean, code: number): void {
 		const hasAxis = b.has[L.X] !== ABSENT || b.has[L.Y] !== ABSENT || b.has[L.Z] !== ABSENT;
 		if (home) return this.goHome(b, line);
-		const cycle = this.isCycle(this.motion);
+		const cycle = this.inCycle;
 		if (!hasAxis && !(cycle && b.has[L.R] !== ABSENT)) return;
 		if (this.motion === UNKNOWN_MOTION) {
 			this.tally.moves++;

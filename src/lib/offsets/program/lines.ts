@@ -7,8 +7,10 @@
 /** Longest line read as one; the rest of a longer line is skipped (and reported). */
 export const MAX_LINE_CHARS = 64 * 1024;
 
-/** Called for each line: text[start, end), `long` when the line was cut at MAX_LINE_CHARS. */
-export type OnLine = (text: string, start: number, end: number, long: boolean) => void;
+/** Receives each line: text[start, end), `long` when the line was cut at MAX_LINE_CHARS. */
+export interface LineSink {
+	line(text: string, start: number, end: number, long: boolean): void;
+}
 
 /** Feeds pieces of text, calls back per line. */
 export class LineSplitter {
@@ -17,7 +19,7 @@ export class LineSplitter {
 	private pendingCR = false;
 	private started = false;
 
-	constructor(private readonly onLine: OnLine) {}
+	constructor(private readonly sink: LineSink) {}
 
 	/** Feeds the next piece; lines may be split anywhere between pieces. */
 	push(chunk: string): void {
@@ -77,8 +79,8 @@ export class LineSplitter {
 	}
 
 	private line(text: string, start: number, end: number): void {
-		if (end - start > MAX_LINE_CHARS) this.onLine(text, start, start + MAX_LINE_CHARS, true);
-		else this.onLine(text, start, end, false);
+		if (end - start > MAX_LINE_CHARS) this.sink.line(text, start, start + MAX_LINE_CHARS, true);
+		else this.sink.line(text, start, end, false);
 	}
 
 	/** Index after the break at `i` (CRLF counts once, also across pieces). */
@@ -106,6 +108,6 @@ export class LineSplitter {
 		const long = this.skipping;
 		this.carry = '';
 		this.skipping = false;
-		this.onLine(text, 0, text.length, long);
+		this.sink.line(text, 0, text.length, long);
 	}
 }

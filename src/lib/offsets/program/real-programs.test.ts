@@ -20,7 +20,9 @@ function found(text: string, setup: ProgramSetup) {
 			f.subject.type === 'program-line' ? f.subject.line : 0,
 			f.severity
 		])
-		.sort((a, b) => (a[1] as number) - (b[1] as number) || String(a[0]).localeCompare(String(b[0])));
+		.sort(
+			(a, b) => (a[1] as number) - (b[1] as number) || String(a[0]).localeCompare(String(b[0]))
+		);
 }
 
 const withLine = (lines: string[], index: number, text: string) =>
@@ -302,7 +304,13 @@ describe('6. smaller ones', () => {
 
 	test('suppressed counts only findings left out, not a second one on the same line', () => {
 		// A drilling cycle whose R and bottom are both past the travel: one finding, none left out.
-		const text = program('G20 G90', 'T1 M6', 'G43 H1 G54 G0 X1. Y1. Z4.5', 'G81 R30. Z25. F5.', 'M30');
+		const text = program(
+			'G20 G90',
+			'T1 M6',
+			'G43 H1 G54 G0 X1. Y1. Z4.5',
+			'G81 R30. Z25. F5.',
+			'M30'
+		);
 		const r = checkProgram(text, ISO);
 		expect(r.stats.findingCounts.overtravel).toBe(1);
 		expect(r.stats.suppressed).toBe(0);

@@ -28,7 +28,7 @@ function markRestUnknown(text: string, from: number, end: number, b: Block): voi
 		const u = text.charCodeAt(i) | 32;
 		const letter = u - 97;
 		if ((letter === L.X || letter === L.Y || letter === L.Z) && b.has[letter] === ABSENT)
-			b.has[letter] = UNKNOWN;
+			b.mark(letter, UNKNOWN);
 	}
 }
 
@@ -104,7 +104,7 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 				// "#" or "[": a parameter or expression (NISTIR 6556 §3.3.2); value unknown here.
 				b.words++;
 				b.unmodelled = Unmodelled.Parameter;
-				if (letter !== L.G && letter !== L.M) b.has[letter] = UNKNOWN;
+				if (letter !== L.G && letter !== L.M) b.mark(letter, UNKNOWN);
 				else b.unknownCode = true;
 				markRestUnknown(text, j, end, b);
 				return;
@@ -168,7 +168,7 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 			} else if (letter !== L.N) {
 				// N is a sequence number: it names a block and changes nothing (NISTIR 6556 §3.3).
 				if (b.has[letter] !== ABSENT) return problem(b, ScanProblem.Duplicate, c, i - start + 1);
-				b.has[letter] = NUMBER;
+				b.mark(letter, NUMBER);
 				b.val[letter] = value;
 			}
 			i = k;
@@ -178,9 +178,9 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 			// Comments do not nest (NISTIR 6556 §3.3.4): the first ")" closes.
 			const close = text.indexOf(')', i + 1);
 			if (close < 0 || close >= end) return problem(b, ScanProblem.OpenComment, c, i - start + 1);
-			const inner = text.indexOf('(', i + 1);
-			if (inner >= 0 && inner < close)
-				return problem(b, ScanProblem.NestedComment, 40, inner - start + 1);
+			for (let k = i + 1; k < close; k++)
+				if (text.charCodeAt(k) === 40)
+					return problem(b, ScanProblem.NestedComment, 40, k - start + 1);
 			i = close + 1;
 			continue;
 		}

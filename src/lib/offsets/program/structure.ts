@@ -188,6 +188,13 @@ export class SubprogramRecorder {
 			if (o.sub.style === 'o-number' && hasMWord(text, start, end, isM99)) this.close();
 			return true;
 		}
+		// Most lines start with N, G, X…: no O word, nothing to read.
+		const c = text.charCodeAt(start);
+		if (c !== 79 && c !== 111 && c !== 58 && c !== 32 && c !== 9) {
+			if (this.findEnd && !this.mainEnded && hasMWord(text, start, end, endsMain))
+				this.mainEnded = true;
+			return false;
+		}
 		const ol = readOLine(text, start, end);
 		if (ol && ol.kind === OKind.Sub) {
 			this.begin(ol.name, lineNo + 1, 'o-sub');
@@ -245,9 +252,11 @@ export function createSubprogramCollector(): {
 } {
 	const rec = new SubprogramRecorder();
 	let n = 0;
-	const split = new LineSplitter((text, start, end) => {
-		n++;
-		rec.line(text, start, end, n);
+	const split = new LineSplitter({
+		line: (text, start, end) => {
+			n++;
+			rec.line(text, start, end, n);
+		}
 	});
 	return {
 		push: (chunk) => split.push(chunk),
