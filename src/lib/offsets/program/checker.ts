@@ -111,9 +111,17 @@ class StreamChecker implements ProgramChecker {
 	private callsFollowed = 0;
 	private result: ProgramCheckResult | null = null;
 
+	/** First of two passes, after a call to a body not yet read: only bodies are collected. */
+	private collecting = false;
+
+	/**
+	 * `firstPass`: this pass will be followed by a second when a call comes before its body, so
+	 * from that call on it only collects bodies (the second pass checks everything).
+	 */
 	constructor(
 		private readonly ctx: CheckContext,
-		library?: SubprogramLibrary
+		library?: SubprogramLibrary,
+		private readonly firstPass = false
 	) {
 		this.out = new FindingCollector(ctx.maxPerKind, ctx.programId);
 		this.run = new Interpreter(ctx, this.out);
@@ -156,6 +164,10 @@ class StreamChecker implements ProgramChecker {
 	/** One physical line (called by the splitter). */
 	line(text: string, start: number, end: number, long: boolean): void {
 		const lineNo = ++this.run.tally.lines;
+		if (this.collecting) {
+			this.structure.line(text, start, end, lineNo);
+			return;
+		}
 		try {
 			if (long) {
 				// Not a program block: say so and do not guess what the cut-off words meant.
@@ -214,6 +226,11 @@ class StreamChecker implements ProgramChecker {
 		}
 		if (sub === undefined) {
 			if (this.missed.size < 1000) this.missed.add(name);
+			if (this.firstPass) {
+				// The second pass will know every body: only collect them from here on.
+				this.collecting = true;
+				this.structure.findMainEnd();
+			}
 			return this.run.loseHeights(line, why.external(shown));
 		}
 		if (this.stack.includes(name) || this.stack.length >= MAX_CALL_DEPTH)
@@ -239,8 +256,14 @@ class StreamChecker implements ProgramChecker {
 		}
 	}
 
+	/** A first pass cut short: the second pass must run. */
+	get needsSecondPass(): boolean {
+		return this.collecting;
+	}
+
 	laterSubprograms(): SubprogramLibrary | null {
 		if (this.result === null) return null;
+		if (this.collecting) return this.library;
 		for (const name of this.missed) {
 			if (this.library.has(name)) return this.library;
 			if (/^\d{5,8}$/.test(name) && this.library.has(String(Number(name) % 10000)))
@@ -329,7 +352,7 @@ export function createProgramChecker(
  */
 export function checkProgram(text: string, setup: ProgramSetup): ProgramCheckResult {
 	const ctx = resolveContext(setup);
-	const first = new StreamChecker(ctx);
+	const first = new StreamChecker(ctx, undefined, true);
 	first.push(typeof text === 'string' ? text : (text as unknown as string));
 	const result = first.end();
 	// A call came before its body (ISO-style subprograms after M30): once more, knowing them.
@@ -351,15 +374,15 @@ export async function checkProgramStream(
 	onProgress?: (lines: number, pass: 1 | 2) => Promise<void> | void
 ): Promise<ProgramCheckResult> {
 	const ctx = resolveContext(setup);
-	const run = async (library: SubprogramLibrary | undefined, pass: 1 | 2) => {
-		const checker = new StreamChecker(ctx, library);
+	const run = async (library: SubprogramLibrary | undefined, pass: 1 | 2, firstPass = false) => {
+		const checker = new StreamChecker(ctx, library, firstPass);
 		for await (const chunk of read()) {
 			checker.push(chunk);
 			if (onProgress) await onProgress(checker.lines, pass);
 		}
 		return checker;
 	};
-	const first = await run(undefined, 1);
+	const first = await run(undefined, 1, true);
 	const result = first.end();
 	const library = first.laterSubprograms();
 	if (library === null) return result;

@@ -162,8 +162,13 @@ export class SubprogramRecorder {
 	 */
 	constructor(
 		private readonly keepText = true,
-		private readonly findEnd = true
+		private findEnd = true
 	) {}
+
+	/** From now on, find the main program's end from the lines themselves (M2, M30, M99). */
+	findMainEnd(): void {
+		this.findEnd = true;
+	}
 
 	/** The main program ended (M2, M30, M99 outside a subprogram). */
 	endMain(): void {
