@@ -206,6 +206,7 @@ describe('upload', () => {
 		expect(report.filename).toBe('program-check-o4471-pump-v2.md');
 		expect(report.text).toContain(createHash('sha256').update(text(BAD)).digest('hex'));
 		expect(report.text).toMatch(/STOP — 3 stop findings/);
+		expect(report.text).toContain("- Checked as: ISO-style (from the machine's control style)");
 		expect(report.text).toMatch(/\*\*STOP\*\* · Low rapid \(`low-traverse`\) · line 11/);
 		expect(report.text).toContain('`G55 X-2. Y1.`');
 		expect(report.text).toMatch(/\| G54 \| 2\.8125 in \|/);
