@@ -73,7 +73,7 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	'/shops/[shop]/setups/[setup]/programs': { allowed: ALL, actions: ['upload'] },
 	'/shops/[shop]/setups/[setup]/programs/[program]': {
 		allowed: ALL,
-		actions: ['upload', 'runNow']
+		actions: ['upload', 'runNow', 'recheck']
 	},
 	'/shops/[shop]/setups/[setup]/programs/[program]/text': { allowed: ALL },
 	'/shops/[shop]/setups/[setup]/programs/[program]/report': { allowed: ALL },

@@ -27,7 +27,9 @@ export const PROGRAM_FINDING_KINDS = [
 	'unknown-work-offset',
 	'unknown-tool-offset',
 	'overtravel',
-	'parse-error'
+	'parse-error',
+	'rapid-into-part',
+	'heights-unknown'
 ] as const;
 
 /** Every finding kind. */

@@ -89,6 +89,7 @@ export { gaugeStack } from './gauge-blocks';
 export { GAUGE_SETS, findGaugeSet, gaugeSetBlocks, type GaugeSet } from './gauge-sets';
 export {
 	checkProgram,
+	checkProgramStream,
 	createProgramChecker,
 	programSetupSchema,
 	REGISTER_STATES,
@@ -97,7 +98,14 @@ export {
 	type ProgramCheckResult,
 	type ProgramStats,
 	type ProgramSetup,
-	type RegisterState
+	type RegisterState,
+	DIALECTS,
+	createSubprogramCollector,
+	type Dialect,
+	type DialectFrom,
+	type ProgramProfile,
+	type ProfilePoint,
+	type SubprogramLibrary
 } from './program';
 export {
 	gateOffsets,
