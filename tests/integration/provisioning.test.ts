@@ -1,7 +1,9 @@
 import { readdirSync } from 'node:fs';
 import type { Knex } from 'knex';
 import { afterAll, describe, expect, it } from 'vitest';
+import { createDb } from '$lib/server/db';
 import { migrateAll, migrationNames } from '$lib/server/db/migrate';
+import { OWNER_ROLE } from '$lib/server/db/roles';
 import { withShop } from '$lib/server/db/tenant';
 import { provisionShop } from '$lib/server/shops/provision';
 import { createShopWithOwner } from '$lib/server/shops/create';
@@ -96,12 +98,19 @@ describe('shop schema provisioning (real PostgreSQL)', () => {
 			await shopMigrations[newest].down!(trx);
 			await trx('knex_migrations').where({ name: newest }).del();
 		});
-		const first = await migrateAll(knex);
-		expect(first.shops[a.schemaName]).toEqual([newest]);
-		expect(first.shops[b.schemaName]).toEqual([]);
-		const second = await migrateAll(knex);
-		expect(second.public).toEqual([]);
-		expect(Object.values(second.shops).flat()).toEqual([]);
+		// Migrations run as the owner role, as `npm run migrate` does (scripts/migrate.ts): a table
+		// they create is the owner's, so sealing the schema can hand out its grants.
+		const asOwner = createDb(process.env.DATABASE_URL!, { role: OWNER_ROLE });
+		try {
+			const first = await migrateAll(asOwner);
+			expect(first.shops[a.schemaName]).toEqual([newest]);
+			expect(first.shops[b.schemaName]).toEqual([]);
+			const second = await migrateAll(asOwner);
+			expect(second.public).toEqual([]);
+			expect(Object.values(second.shops).flat()).toEqual([]);
+		} finally {
+			await asOwner.destroy();
+		}
 	});
 
 	it('lists every migration file in the static migration indexes (nothing forgotten)', () => {
