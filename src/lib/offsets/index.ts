@@ -99,3 +99,23 @@ export {
 	type ProgramSetup,
 	type RegisterState
 } from './program';
+export {
+	parseControlFile,
+	MAX_CONTROL_FILE_CHARS,
+	type ControlFile,
+	type NoPointFlag,
+	type OtherRegister,
+	type ReadbackSection
+} from './parse-load-program';
+export {
+	compareReadback,
+	registerLabel,
+	READBACK_CAUSES,
+	READBACK_CAUSE_TITLE,
+	type ReadbackCause,
+	type ReadbackComparison,
+	type ReadbackInput,
+	type ReadbackRow,
+	type ReadbackValues,
+	type OneSided
+} from './readback';
