@@ -29,6 +29,8 @@ export interface FleetMachine {
 	lastReadingAt: string | null;
 	referenceAt: string | null;
 	referenceVersion: number | null;
+	/** Registers in use by active setups: how many, not verified at the control, mismatched (issue 16). */
+	atControl: { inUse: number; unverified: number; mismatched: number };
 }
 
 export interface LastCheck {

@@ -62,6 +62,7 @@ export { DEFAULT_POLICY, resolvePolicy, type Policy } from './policy';
 export {
 	TABLE_FINDING_KINDS,
 	PROGRAM_FINDING_KINDS,
+	READBACK_FINDING_KINDS,
 	FINDING_KINDS,
 	findingKey,
 	subjectKey,
@@ -72,6 +73,7 @@ export {
 	type FindingKind,
 	type TableFindingKind,
 	type ProgramFindingKind,
+	type ReadbackFindingKind,
 	type FindingSubject,
 	type FindingStatus,
 	type Severity
