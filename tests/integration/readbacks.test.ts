@@ -81,7 +81,8 @@ describe('read-backs', () => {
 		);
 		expect(findings).toHaveLength(1);
 		expect(findings[0]).toMatchObject({ severity: 'stop', status: 'open', subject: 'H2' });
-		expect(findings[0].message).toContain('-14.7052 in');
+		expect(findings[0].message).toContain('H2 at the control holds -14.7052 in');
+		expect(findings[0].message).toContain('two digits swapped');
 		// The morning digest lists it like any other finding.
 		const digest = await inShop((trx) => digestFindings(trx, new Date()));
 		expect(digest.find((d) => d.subject === 'H2')?.message).toMatch(/control holds -14\.7052 in/);

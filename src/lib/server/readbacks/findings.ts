@@ -12,8 +12,10 @@ import type { Knex } from 'knex';
 import {
 	formatWithUnits,
 	makeFinding,
+	READBACK_CAUSE_TITLE,
 	READBACK_FINDING_KINDS,
 	type Finding,
+	type ReadbackCause,
 	type FindingSubject
 } from '$lib/offsets';
 import type { MachineRecord } from '../offsets/machine-state';
@@ -45,7 +47,7 @@ export function readbackFindingsFrom(
 				'readback-mismatch',
 				'stop',
 				subjectOf(v),
-				`The control holds ${fmt(v.controlValue ?? 0)} in ${label(v)}, but Datumkeep computed ${fmt(v.value)} (read back ${v.readbackAt?.slice(0, 16).replace('T', ' ')} UTC). Enter ${fmt(v.value)} at the control, then read it back again before running.`,
+				`${label(v)} at the control holds ${fmt(v.controlValue ?? 0)}, but Datumkeep computed ${fmt(v.value)}${v.cause && v.cause !== 'unexplained' ? ` (likely cause: ${READBACK_CAUSE_TITLE[v.cause as ReadbackCause].toLowerCase()})` : ''}; read back ${v.readbackAt?.slice(0, 16).replace('T', ' ')} UTC. Enter ${fmt(v.value)} at the control, then read it back again before running.`,
 				{ value: v.value, control: v.controlValue ?? 0 }
 			)
 		);

@@ -26,11 +26,14 @@ export interface RegisterVerification {
 	controlValue: number | null;
 	readbackId: number | null;
 	readbackAt: string | null;
+	/** The most likely cause of a mismatch (a READBACK_CAUSES code), when mismatched. */
+	cause: string | null;
 }
 
 /** The newest compared read-back row of every register (a subquery; no CTE name, see the board). */
 export const LAST_COMPARED_SQL = `select distinct on (v.machine_id, v.register_kind, v.register)
-		v.machine_id, v.register_kind, v.register, v.status, v.offset_version_id, v.readback_id, v.value
+		v.machine_id, v.register_kind, v.register, v.status, v.offset_version_id, v.readback_id, v.value,
+		v.causes
 	from readback_values v
 	where v.status in ('equal', 'different')
 	order by v.machine_id, v.register_kind, v.register, v.readback_id desc`;
@@ -52,6 +55,7 @@ export async function machineVerification(
 	const { rows } = await trx.raw(
 		`select c.register_kind, c.register, c.offset_version_id, c.value, c.created_at,
 			v.status, v.offset_version_id as compared_version, v.readback_id, v.value as control_value,
+			v.causes,
 			r.taken_at as readback_at
 		from current_offsets c
 		left join (${LAST_COMPARED_SQL}) v
@@ -79,7 +83,10 @@ export async function machineVerification(
 			state,
 			controlValue: compared && r.control_value !== null ? Number(r.control_value) : null,
 			readbackId: compared ? Number(r.readback_id) : null,
-			readbackAt: compared && r.readback_at ? new Date(r.readback_at as string).toISOString() : null
+			readbackAt:
+				compared && r.readback_at ? new Date(r.readback_at as string).toISOString() : null,
+			cause:
+				state === 'mismatched' ? ((r.causes as { kind: string }[] | null)?.[0]?.kind ?? null) : null
 		};
 	});
 }
