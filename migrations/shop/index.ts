@@ -19,6 +19,7 @@ import * as m0017 from './20261203090000_create_current_offsets';
 import * as m0018 from './20261204090000_notify_board_changes';
 import * as m1601 from './20261216000100_create_readbacks';
 import * as m1602 from './20261216000200_notify_board_readbacks';
+import * as m1603 from './20261216000300_add_extended_offsets_to_machines';
 
 /**
  * The migrations every shop schema gets, in order. Schema-agnostic: they run with the search
@@ -45,5 +46,6 @@ export const shopMigrations: Record<string, Knex.Migration> = {
 	'20261203090000_create_current_offsets': m0017,
 	'20261204090000_notify_board_changes': m0018,
 	'20261216000100_create_readbacks': m1601,
-	'20261216000200_notify_board_readbacks': m1602
+	'20261216000200_notify_board_readbacks': m1602,
+	'20261216000300_add_extended_offsets_to_machines': m1603
 };

@@ -10,6 +10,7 @@ import { recordReadback } from '$lib/server/readbacks/record';
 import { machineVerification } from '$lib/server/readbacks/status';
 import { ReadingInputError } from '$lib/server/readings/record';
 import { provisionShop } from '$lib/server/shops/provision';
+import { addFixture } from '$lib/server/tools/service';
 import { testDb, uniqueSuffix } from './db';
 import { insertTwoFixtureMill } from './two-fixture-mill';
 
@@ -192,5 +193,29 @@ describe('read-backs', () => {
 		).rejects.toBeInstanceOf(ReadingInputError);
 		const after = await inShop((trx) => trx('readbacks').count('* as n'));
 		expect(after).toEqual(before);
+	});
+
+	it('extended work offsets are a machine setting: fixtures only up to the number the machine has', async () => {
+		const add = (register: string) =>
+			inShop((trx) =>
+				addFixture(trx, machineId, { register, name: register, description: '' }, actor)
+			);
+		// insertTwoFixtureMill inserts no setting: 0 extended work offsets.
+		const refused = await add('G54.1 P1');
+		expect(refused).toMatchObject({ ok: false, field: 'register' });
+		expect(!refused.ok && refused.message).toMatch(/set to have 0 extended work offsets/);
+		await inShop((trx) =>
+			trx('machines')
+				.where({ id: machineId })
+				.update({ extended_work_offsets: 2, extended_address: 'G54 P' })
+		);
+		expect(await add('G54.1 P2')).toMatchObject({ ok: true });
+		const beyond = await add('G54.1 P3');
+		expect(!beyond.ok && beyond.message).toMatch(/2 extended work offsets \(G54 P1…\)/);
+		await expect(
+			inShop((trx) =>
+				trx('machines').where({ id: machineId }).update({ extended_work_offsets: 49 })
+			)
+		).rejects.toThrow(/machines_extended_work_offsets_range/);
 	});
 });

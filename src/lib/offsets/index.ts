@@ -23,7 +23,10 @@ export {
 	sortRegisters,
 	STANDARD_WORK_REGISTERS,
 	MAX_EXTENDED_REGISTER,
-	MAX_H_NUMBER
+	MAX_H_NUMBER,
+	EXTENDED_ADDRESS_FORMS,
+	registerForMachine,
+	type ExtendedAddressForm
 } from './registers';
 export {
 	CONVENTIONS,

@@ -292,9 +292,16 @@ function readG10(text: string, mode: Mode, m: Machine | undefined): ReadState {
 			}
 			if (l === '20') {
 				if (!setStyle(n, 'iso', raw)) return;
-				if (p < 1 || p > MAX_EXTENDED_REGISTER) {
+				const has = lenient
+					? (m?.extendedWorkOffsets ?? MAX_EXTENDED_REGISTER)
+					: MAX_EXTENDED_REGISTER;
+				if (p < 1 || p > has) {
 					if (lenient) {
-						s.other.push({ line: n, label: EXTENDED_LABEL(p), value });
+						s.other.push({
+							line: n,
+							label: `${m?.extendedAddress ?? 'G54.1 P'}${p} (the machine is set to ${has} extended work offsets)`,
+							value
+						});
 						return;
 					}
 					return fail(n, p, `G10 L20 P must be 1–${MAX_EXTENDED_REGISTER} (G54.1 P1–P48)`);

@@ -262,6 +262,21 @@ describe('compareReadback', () => {
 		expect(c.rows.find((r) => r.label === 'H3')!.wear).toBe(-0.02);
 	});
 
+	test('extended work offsets: shown in the machine’s address form; beyond its count listed apart', () => {
+		// ISO-style mill control manual §1.2.10 [secondary]: G10 L20 Pn = extended work offset n
+		const machine: Machine = { ...MILL3_ISO, extendedWorkOffsets: 3, extendedAddress: 'G54 P' };
+		const file = parseControlFile('G21\nG10 L20 P3 Z-310.250\nG10 L20 P4 Z-320.500', machine);
+		expect(file.other.map((o) => o.label)).toEqual([
+			'G54 P4 (the machine is set to 3 extended work offsets)'
+		]);
+		const c = compareReadback({
+			machine,
+			expected: { ...MM, work: { 'G54.1 P3': -310.25 }, tools: {} },
+			actual: file
+		});
+		expect(c.rows.map((r) => [r.label, r.status])).toEqual([['G54 P3', 'equal']]);
+	});
+
 	test('refuses a table in the other unit and a register it does not know', () => {
 		expect(() => compare(MILL1_NGC, MM, {})).toThrow(/machine's units/);
 		expect(() => compare(MILL1_NGC, INCH, { G60: 1 })).toThrow(/actual.work.G60/);

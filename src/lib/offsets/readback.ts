@@ -14,7 +14,9 @@ import {
 	canonicalH,
 	canonicalRegister,
 	extendedNumber,
-	STANDARD_WORK_REGISTERS
+	registerForMachine,
+	STANDARD_WORK_REGISTERS,
+	type ExtendedAddressForm
 } from './registers';
 import { normalizeTable, parseMachine } from './table';
 import type { Machine, OffsetTable, PolicyInput } from './types';
@@ -112,9 +114,16 @@ export interface ReadbackInput {
 	policy?: PolicyInput;
 }
 
-/** How a register is shown: "H3" for tools, the register itself for work offsets. */
-export function registerLabel(section: 'work' | 'tools' | 'wear', register: string): string {
-	if (section === 'work') return register;
+/**
+ * How a register is shown: "H3" for tools, the work register as the machine's programs address
+ * it ("G54.1 P3", or "G54 P3" on a machine set that way).
+ */
+export function registerLabel(
+	section: 'work' | 'tools' | 'wear',
+	register: string,
+	form: ExtendedAddressForm = 'G54.1 P'
+): string {
+	if (section === 'work') return registerForMachine(register, form);
 	return section === 'wear' ? `H${register} wear` : `H${register}`;
 }
 
@@ -200,7 +209,7 @@ export function compareReadback(input: ReadbackInput): ReadbackComparison {
 		const exp = expected[section];
 		const act = actual[section];
 		for (const [register, e] of Object.entries(exp)) {
-			const label = registerLabel(section, register);
+			const label = registerLabel(section, register, m.extendedAddress);
 			if (!(register in act)) {
 				onlyInDatumkeep.push({ section, register, label, value: e });
 				continue;
@@ -238,7 +247,7 @@ export function compareReadback(input: ReadbackInput): ReadbackComparison {
 					if (other in exp && inc(exp[other]) === inc(a) && inc(exp[other]) !== inc(e))
 						causes.push({
 							kind: 'off-by-one',
-							text: `${label} holds ${registerLabel(section, other)}’s value (${fmt(a)}): it was probably typed one register off.`
+							text: `${label} holds ${registerLabel(section, other, m.extendedAddress)}’s value (${fmt(a)}): it was probably typed one register off.`
 						});
 				}
 				const slip = slipKind(a, e, m.units, res, policy);
@@ -259,7 +268,7 @@ export function compareReadback(input: ReadbackInput): ReadbackComparison {
 				onlyAtControl.push({
 					section,
 					register,
-					label: registerLabel(section, register),
+					label: registerLabel(section, register, m.extendedAddress),
 					value: a
 				});
 		}

@@ -1,4 +1,5 @@
 import { error, fail } from '@sveltejs/kit';
+import { registerForMachine } from '$lib/offsets';
 import { can } from '$lib/permissions';
 import { readbackSchema } from '$lib/schemas/readback';
 import { withShop } from '$lib/server/db/tenant';
@@ -49,7 +50,10 @@ export const load: PageServerLoad = async (event) => {
 			.filter((v) => keep(v.kind, v.register))
 			.map((v) => ({
 				...v,
-				label: v.kind === 'tool' ? `H${v.register}` : v.register,
+				label:
+					v.kind === 'tool'
+						? `H${v.register}`
+						: registerForMachine(v.register, machine.extendedAddress),
 				name: (v.kind === 'tool' ? toolName.get(v.register) : fixtureName.get(v.register)) ?? ''
 			}));
 		const order = (r: { kind: string; register: string }) =>
