@@ -8,6 +8,7 @@ import * as m0006 from './20261202020200_create_billing_invoices';
 import * as m0007 from './20261203070000_add_check_hour_to_shops';
 import * as m0008 from './20261203070100_add_digest_opt_out_to_memberships';
 import * as m0009 from './20261204090000_create_change_notifications';
+import * as m1601 from './20261216000100_add_readback_hours_to_shops';
 
 /**
  * The public-schema migrations, in order. Listed by hand (not read from the folder) so the
@@ -23,5 +24,6 @@ export const publicMigrations: Record<string, Knex.Migration> = {
 	'20261202020200_create_billing_invoices': m0006,
 	'20261203070000_add_check_hour_to_shops': m0007,
 	'20261203070100_add_digest_opt_out_to_memberships': m0008,
-	'20261204090000_create_change_notifications': m0009
+	'20261204090000_create_change_notifications': m0009,
+	'20261216000100_add_readback_hours_to_shops': m1601
 };

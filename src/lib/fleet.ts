@@ -29,6 +29,8 @@ export interface FleetMachine {
 	lastReadingAt: string | null;
 	referenceAt: string | null;
 	referenceVersion: number | null;
+	/** Registers in use by active setups: how many, not verified at the control, mismatched (issue 16). */
+	atControl: { inUse: number; unverified: number; mismatched: number };
 }
 
 export interface LastCheck {
@@ -74,3 +76,20 @@ export const FINDING_STATUS_LABEL = {
 	resolved: 'Resolved'
 } as const;
 export type FindingStatus = keyof typeof FINDING_STATUS_LABEL;
+
+/** Plain titles for finding kinds (users never see the codes; DESIGN.md §7). */
+export const FINDING_KIND_TITLE: Record<string, string> = {
+	sign: 'Wrong sign for the convention',
+	'out-of-travel': 'Beyond the machine’s Z travel',
+	'unit-slip': 'Looks like an inch/mm slip',
+	'decimal-slip': 'Looks like a shifted decimal point',
+	'sign-flip': 'Sign flipped from the last value',
+	'transposed-digits': 'Two digits swapped',
+	jump: 'Unexplained change',
+	'stale-age': 'Offset older than the shop’s limit',
+	'stale-reference': 'Measured before the reference was re-set',
+	'duplicate-register': 'Register named twice',
+	unset: 'Used but never measured',
+	'readback-mismatch': 'Control holds a different value',
+	unverified: 'Changed but not verified at the control'
+};

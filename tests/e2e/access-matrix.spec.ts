@@ -95,6 +95,9 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 		actions: ['preview', 'save']
 	},
 	'/shops/[shop]/machines/[machine]/history/[kind]/[register]': { allowed: ALL },
+	// Read-backs at the control: every role records them (like readings) and sees them.
+	'/shops/[shop]/machines/[machine]/readback': { allowed: ALL, actions: ['typed', 'file'] },
+	'/api/v1/shops/[shop]/machines/[machine]/readbacks': { allowed: ALL },
 	'/api/v1/shops/[shop]/machines/[machine]/offsets': { allowed: ALL },
 	'/api/v1/shops/[shop]/machines/[machine]/readings': { allowed: ALL },
 	'/api/v1/shops/[shop]/setups': { allowed: ALL },

@@ -23,7 +23,10 @@ export {
 	sortRegisters,
 	STANDARD_WORK_REGISTERS,
 	MAX_EXTENDED_REGISTER,
-	MAX_H_NUMBER
+	MAX_H_NUMBER,
+	EXTENDED_ADDRESS_FORMS,
+	registerForMachine,
+	type ExtendedAddressForm
 } from './registers';
 export {
 	CONVENTIONS,
@@ -62,6 +65,7 @@ export { DEFAULT_POLICY, resolvePolicy, type Policy } from './policy';
 export {
 	TABLE_FINDING_KINDS,
 	PROGRAM_FINDING_KINDS,
+	READBACK_FINDING_KINDS,
 	FINDING_KINDS,
 	findingKey,
 	subjectKey,
@@ -72,6 +76,7 @@ export {
 	type FindingKind,
 	type TableFindingKind,
 	type ProgramFindingKind,
+	type ReadbackFindingKind,
 	type FindingSubject,
 	type FindingStatus,
 	type Severity
@@ -107,3 +112,23 @@ export {
 	type ProfilePoint,
 	type SubprogramLibrary
 } from './program';
+export {
+	parseControlFile,
+	MAX_CONTROL_FILE_CHARS,
+	type ControlFile,
+	type NoPointFlag,
+	type OtherRegister,
+	type ReadbackSection
+} from './parse-load-program';
+export {
+	compareReadback,
+	registerLabel,
+	READBACK_CAUSES,
+	READBACK_CAUSE_TITLE,
+	type ReadbackCause,
+	type ReadbackComparison,
+	type ReadbackInput,
+	type ReadbackRow,
+	type ReadbackValues,
+	type OneSided
+} from './readback';

@@ -1,6 +1,7 @@
 import type { Knex } from 'knex';
 import { DEFAULT_POLICY } from '$lib/offsets';
 import type { FleetBoard, FleetMachine, Health, LastCheck } from '$lib/fleet';
+import { boardVerification } from '../readbacks/status';
 
 /**
  * The fleet board's data for one shop in a fixed number of set-based queries, however many
@@ -11,7 +12,8 @@ import type { FleetBoard, FleetMachine, Health, LastCheck } from '$lib/fleet';
  *      re-set, how many past their age — one statement of hash joins over whole tables (a
  *      LATERAL per machine re-scanned the small tables 200 times: 10 ms against 4 ms);
  *   2. unresolved findings counted per machine, severity and status;
- *   3. the newest background check.
+ *   3. registers in use by active setups not verified at the control (readbacks/status.ts);
+ *   4. the newest background check.
  * `trx` must be a shop transaction (withShop).
  *
  * Health is the worst of the stored findings (from the last background check) and what the
@@ -60,6 +62,8 @@ export async function fleetBoard(trx: Knex.Transaction, now = new Date()): Promi
 		from findings where status <> 'resolved'
 		group by machine_id, severity, status, (kind like 'stale-%')`
 	);
+
+	const atControl = await boardVerification(trx);
 
 	const [run] = await trx('check_runs')
 		.orderBy('started_at', 'desc')
@@ -126,7 +130,8 @@ export async function fleetBoard(trx: Knex.Transaction, now = new Date()): Promi
 			staleAge: o.staleAge,
 			lastReadingAt: m.last_reading_at ? iso(m.last_reading_at) : null,
 			referenceAt: m.reference_at ? iso(m.reference_at) : null,
-			referenceVersion: m.reference_version === null ? null : Number(m.reference_version)
+			referenceVersion: m.reference_version === null ? null : Number(m.reference_version),
+			atControl: atControl.get(id) ?? { inUse: 0, unverified: 0, mismatched: 0 }
 		};
 	});
 

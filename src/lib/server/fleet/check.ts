@@ -4,6 +4,7 @@ import { db } from '../db';
 import { withShop } from '../db/tenant';
 import { machineState, toMachineRecord } from '../offsets/machine-state';
 import type { ShopRow } from '../shops/queries';
+import { readbackFindings, readbackHours } from '../readbacks/findings';
 
 /**
  * The background offset check of one shop (issue 7): the engine's `checkOffsets` (through
@@ -84,7 +85,15 @@ export async function runShopCheck(
 				const state = await machineState(trx, machine, checkedAt);
 				const names = new Map<string, string>();
 				for (const s of state.checkInput.setups ?? []) if (s.id && s.name) names.set(s.id, s.name);
-				return storeFindings(trx, machine.id, state.findings, checkedAt, stamp, names);
+				// Read-backs at the control (issue 16): mismatches and registers not verified in time.
+				const readback = await readbackFindings(
+					trx,
+					machine,
+					checkedAt,
+					await readbackHours(trx, shop.id)
+				);
+				const found = [...state.findings, ...readback];
+				return storeFindings(trx, machine.id, found, checkedAt, stamp, names);
 			},
 			knex
 		);

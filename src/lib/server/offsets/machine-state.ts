@@ -4,6 +4,7 @@ import {
 	type CheckInput,
 	type Convention,
 	type ControlStyle,
+	type ExtendedAddressForm,
 	type Finding,
 	type HistoryEntry,
 	type Machine,
@@ -24,6 +25,9 @@ export interface MachineRecord {
 	notes: string;
 	createdAt: string;
 	hasPhoto: boolean;
+	/** How many extended work offsets the control has (0–48) and how its programs address them. */
+	extendedWorkOffsets: number;
+	extendedAddress: ExtendedAddressForm;
 }
 
 export interface ReferenceRecord {
@@ -65,7 +69,9 @@ export function toMachineRecord(r: Record<string, unknown>): MachineRecord {
 		masterToolH: num(r.master_tool_h),
 		notes: String(r.notes ?? ''),
 		createdAt: iso(r.created_at),
-		hasPhoto: Boolean(r.photo_key)
+		hasPhoto: Boolean(r.photo_key),
+		extendedWorkOffsets: Number(r.extended_work_offsets ?? 0),
+		extendedAddress: (r.extended_address as ExtendedAddressForm | undefined) ?? 'G54.1 P'
 	};
 }
 
@@ -88,6 +94,8 @@ export function engineMachine(m: MachineRecord): Machine {
 		resolution: m.resolution,
 		convention: m.convention,
 		controlStyle: m.controlStyle,
+		extendedWorkOffsets: m.extendedWorkOffsets,
+		extendedAddress: m.extendedAddress,
 		...(m.masterToolH ? { masterTool: String(m.masterToolH) } : {})
 	};
 }
