@@ -1,5 +1,6 @@
 import type { Knex } from 'knex';
 import { DEFAULT_POLICY } from '$lib/offsets';
+import { shopPolicy } from '../shops/settings';
 import type { FleetBoard, FleetMachine, Health, LastCheck } from '$lib/fleet';
 
 /**
@@ -19,9 +20,10 @@ import type { FleetBoard, FleetMachine, Health, LastCheck } from '$lib/fleet';
  * board before the nightly check has run.
  */
 export async function fleetBoard(trx: Knex.Transaction, now = new Date()): Promise<FleetBoard> {
-	// Engine defaults (shop policy, src/lib/offsets/policy.ts): the same ages the check uses.
-	const toolDays = DEFAULT_POLICY.inch.toolMaxAgeDays;
-	const workDays = DEFAULT_POLICY.inch.workMaxAgeDays;
+	// The shop's own ages (settings), else the engine's defaults: the same ages the check uses.
+	const policy = await shopPolicy(trx);
+	const toolDays = policy.toolMaxAgeDays ?? DEFAULT_POLICY.inch.toolMaxAgeDays;
+	const workDays = policy.workMaxAgeDays ?? DEFAULT_POLICY.inch.workMaxAgeDays;
 	const machines = await trx.raw(
 		`with ref as (
 			select distinct on (machine_id) machine_id, version, established_at

@@ -2,6 +2,7 @@ import type { Knex } from 'knex';
 import type { Role } from '$lib/permissions';
 import { audit } from '../audit';
 import { withShop, type ShopRef } from '../db/tenant';
+import { logLifecycle } from '../shops/lifecycle';
 import type { Actor } from './invitations';
 
 export interface MemberView {
@@ -17,7 +18,8 @@ export async function listMembers(knex: Knex, shopId: number): Promise<MemberVie
 	const rows = await knex('public.memberships as m')
 		.join('public.users as u', 'u.id', 'm.user_id')
 		.where('m.shop_id', shopId)
-		.orderByRaw("array_position(array['owner','admin','lead','operator'], m.role), u.name")
+		// By name, not by role: a role change must not move the row under the pointer (issue 18).
+		.orderByRaw('lower(u.name), m.id')
 		.select('m.id', 'u.id as user_id', 'u.name', 'u.email', 'm.role', 'm.created_at');
 	return rows.map((r) => ({
 		membershipId: Number(r.id),
@@ -29,7 +31,7 @@ export async function listMembers(knex: Knex, shopId: number): Promise<MemberVie
 	}));
 }
 
-export type MemberChangeResult = { ok: true } | { ok: false; message: string };
+export type MemberChangeResult = { ok: true; name?: string } | { ok: false; message: string };
 
 /**
  * Locks the shop's owner memberships (so two demotions or removals cannot both see "another
@@ -40,10 +42,11 @@ async function lockOwnersAndFind(trx: Knex.Transaction, shop: ShopRef, membershi
 		.where({ shop_id: shop.id, role: 'owner' })
 		.forUpdate()
 		.select('id');
-	const target: { role: Role; email: string } | undefined = await trx('public.memberships as m')
-		.join('public.users as u', 'u.id', 'm.user_id')
-		.where({ 'm.id': membershipId, 'm.shop_id': shop.id })
-		.first('m.role', 'u.email');
+	const target: { role: Role; email: string; user_id: string; name: string } | undefined =
+		await trx('public.memberships as m')
+			.join('public.users as u', 'u.id', 'm.user_id')
+			.where({ 'm.id': membershipId, 'm.shop_id': shop.id })
+			.first('m.role', 'u.email', 'u.id as user_id', 'u.name');
 	return { ownerCount: owners.length, target };
 }
 
@@ -105,6 +108,16 @@ export async function removeMember(
 			return { ok: false, message: `${target.email} is the last owner and cannot be removed.` };
 		}
 		await trx('public.memberships').where({ id: membershipId }).del();
+		// Remembered in public so the removed person is told why the shop is gone from them.
+		const { slug } = await trx('public.shops').where({ id: shop.id }).first('slug');
+		await logLifecycle(trx, {
+			shopId: shop.id,
+			shopSlug: slug,
+			action: 'member.removed',
+			actorUserId: by.id,
+			actorEmail: by.email,
+			detail: { userId: Number(target.user_id), email: target.email, role: target.role }
+		});
 		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
 		await audit(trx, {
 			actorUserId: by.id,
@@ -114,7 +127,7 @@ export async function removeMember(
 			detail: { role: target.role },
 			ip
 		});
-		return { ok: true };
+		return { ok: true, name: target.name };
 	});
 }
 
