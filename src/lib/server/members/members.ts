@@ -131,13 +131,25 @@ export async function removeMember(
 	});
 }
 
-export async function readAuditLog(shop: ShopRef, limit = 200) {
+export interface AuditFilter {
+	/** The actor's e-mail, exactly as logged. */
+	actor?: string;
+	/** The entry's kind (action code). */
+	action?: string;
+	limit?: number;
+}
+
+/** Newest first, optionally one person's and/or one kind's entries. */
+export async function readAuditLog(shop: ShopRef, filter: AuditFilter = {}) {
 	return withShop(shop, async (trx) => {
-		const rows = await trx('audit_log')
+		const q = trx('audit_log')
 			.orderBy('at', 'desc')
 			.orderBy('id', 'desc')
-			.limit(limit)
+			.limit(filter.limit ?? 200)
 			.select('*');
+		if (filter.actor) q.where('actor_email', filter.actor);
+		if (filter.action) q.where('action', filter.action);
+		const rows = await q;
 		return rows.map((r) => ({
 			id: Number(r.id),
 			at: new Date(r.at).toISOString(),
@@ -147,5 +159,16 @@ export async function readAuditLog(shop: ShopRef, limit = 200) {
 			detail: r.detail as Record<string, unknown>,
 			ip: r.ip as string
 		}));
+	});
+}
+
+/** The people and kinds that occur in the shop's log, for the filter lists. */
+export async function auditFilterOptions(shop: ShopRef) {
+	return withShop(shop, async (trx) => {
+		const [actors, actions] = await Promise.all([
+			trx('audit_log').distinct('actor_email').orderBy('actor_email').pluck('actor_email'),
+			trx('audit_log').distinct('action').orderBy('action').pluck('action')
+		]);
+		return { actors: actors.filter(Boolean) as string[], actions: actions as string[] };
 	});
 }
