@@ -72,5 +72,17 @@ export async function requireMember(
 	if (!can(membership.role, capability)) {
 		error(403, 'Your role in this shop does not allow this.');
 	}
+	// A shop waiting out its deletion grace period is read-only; only its owner may act, to
+	// restore it (issue 18).
+	if (
+		membership.shop.deletionPurgeAfter &&
+		!onlyReads(event.request.method) &&
+		capability !== 'shop.delete'
+	) {
+		error(
+			423,
+			'This shop is set to be deleted and is read-only. Its owner can restore it on the Settings page.'
+		);
+	}
 	return { user, shop: { ...membership.shop }, role: membership.role };
 }

@@ -17,6 +17,8 @@ export const load: LayoutServerLoad = async (event) => {
 	return {
 		shop: { slug: shop.slug, name: shop.name, timeZone: shop.timeZone },
 		role,
+		/** When the shop's data will be dropped, while its deletion grace period runs. */
+		deletionPurgeAfter: shop.deletionPurgeAfter ?? null,
 		nav: {
 			members: can(role, 'members.manage'),
 			audit: can(role, 'audit.read'),
