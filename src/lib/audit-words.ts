@@ -36,6 +36,8 @@ export const AUDIT_TITLES: Record<string, string> = {
 	'setup.photo.remove': 'Setup photo removed',
 	'program.upload': 'Program uploaded',
 	'check.requested': 'Offset check started',
+	'finding.acknowledge': 'Finding acknowledged',
+	'finding.resolve': 'Finding resolved',
 	'check.schedule': 'Nightly check time changed',
 	'billing.checkout-started': 'Checkout started',
 	'billing.subscribed': 'Subscription started',

@@ -157,7 +157,7 @@ test('the owner subscribes through the fake checkout and the billing page shows 
 	await expect(page).toHaveURL(new RegExp(`${BILLING}$`));
 
 	await page.goto(`/shops/${FERNHILL.slug}/audit`);
-	await expect(page.getByTestId('audit-table')).toContainText('billing.subscribed');
+	await expect(page.getByTestId('audit-table')).toContainText('Subscription started');
 });
 
 test('a payment failure delivered twice is applied once: one e-mail each to owner and admin, banner shown', async ({

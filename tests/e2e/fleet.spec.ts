@@ -82,9 +82,9 @@ test('a lead sees Mill 1 flagged, checks now, acknowledges its finding and the b
 	// The owner finds it in the shop's audit log.
 	const owner = await signedInClient(FERNHILL.owner);
 	const audit = await (await owner.get(`/shops/${FERNHILL.slug}/audit`)).text();
-	expect(audit).toContain('finding.acknowledge');
+	expect(audit).toContain('Finding acknowledged');
 	expect(audit).toContain(`finding:${id}`);
-	expect(audit).toContain('check.requested');
+	expect(audit).toContain('Offset check started');
 	await owner.dispose();
 });
 
