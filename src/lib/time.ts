@@ -71,8 +71,25 @@ export function zoneLabel(timeZone: string, at: Date = new Date()): string {
 	return part?.value ?? timeZone;
 }
 
-/** Every IANA zone this runtime knows, for the settings page's list. */
+/**
+ * Today's IANA names that ICU still lists under an old one (its list says Asia/Calcutta, not
+ * Asia/Kolkata): shown under the current name, which Intl accepts just the same.
+ */
+const RENAMED: Record<string, string> = {
+	'Asia/Calcutta': 'Asia/Kolkata',
+	'Europe/Kiev': 'Europe/Kyiv',
+	'Asia/Katmandu': 'Asia/Kathmandu',
+	'Asia/Rangoon': 'Asia/Yangon',
+	'America/Godthab': 'America/Nuuk',
+	'Pacific/Enderbury': 'Pacific/Kanton',
+	'Asia/Saigon': 'Asia/Ho_Chi_Minh',
+	'Atlantic/Faeroe': 'Atlantic/Faroe'
+};
+
+/** Every IANA zone this runtime knows, for the settings page's list (current names). */
 export function timeZones(): string[] {
-	const zones = Intl.supportedValuesOf('timeZone');
-	return zones.includes('UTC') ? zones : ['UTC', ...zones];
+	const zones = Intl.supportedValuesOf('timeZone').map((z) => RENAMED[z] ?? z);
+	return [...new Set(['UTC', ...zones])].sort((a, b) =>
+		a === 'UTC' ? -1 : b === 'UTC' ? 1 : a.localeCompare(b)
+	);
 }

@@ -1,3 +1,4 @@
+import { fail } from '@sveltejs/kit';
 import { can } from '$lib/permissions';
 import { requireMember } from '$lib/server/guard';
 import { db } from '$lib/server/db';
@@ -24,6 +25,9 @@ export const load: PageServerLoad = async (event) => {
 export const actions: Actions = {
 	dismissFirstSteps: async (event) => {
 		const { shop } = await requireMember(event, 'machines.write');
+		const form = await event.request.formData();
+		if (form.get('dismiss') !== 'yes')
+			return fail(400, { error: 'Say dismiss=yes to hide the guide.' });
 		await dismissFirstSteps(db(), shop.id);
 		return { dismissed: true };
 	}

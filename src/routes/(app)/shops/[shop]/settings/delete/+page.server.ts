@@ -41,7 +41,7 @@ export const actions: Actions = {
 	restore: async (event) => {
 		const { shop, user } = await requireMember(event, 'shop.delete');
 		const r = await restoreShop(db(), shop, user, clientAddress(event));
-		if (!r.ok) return fail(409, { restoreError: r.message });
+		if (!r.ok) return fail(400, { restoreError: r.message });
 		redirect(303, `/shops/${shop.slug}/settings/delete?restored=1`);
 	}
 };

@@ -13,6 +13,10 @@ export const load: PageServerLoad = async (event) => {
 export const actions: Actions = {
 	default: async (event) => {
 		const { shop, user } = await requireMember(event, 'shop.export');
+		const data = await event.request.formData();
+		if (data.get('scope') !== 'everything') {
+			return fail(400, { error: 'Say what to export (scope=everything).' });
+		}
 		const running = (await listExports(db(), shop.id)).some(
 			(e) => e.status === 'queued' || e.status === 'running'
 		);
