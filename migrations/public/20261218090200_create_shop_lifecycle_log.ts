@@ -20,7 +20,7 @@ export async function up(knex: Knex): Promise<void> {
 	await knex.raw(`create function shop_lifecycle_log_refuse_change() returns trigger language plpgsql as $$
 		begin raise exception 'shop_lifecycle_log is append-only'; end $$`);
 	await knex.raw(
-		`create trigger shop_lifecycle_log_append_only before update or delete or truncate on shop_lifecycle_log for each statement execute function shop_lifecycle_log_refuse_change()`
+		`create trigger shop_lifecycle_log_append_only before update or delete on shop_lifecycle_log for each statement execute function shop_lifecycle_log_refuse_change()`
 	);
 }
 

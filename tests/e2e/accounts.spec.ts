@@ -65,8 +65,16 @@ test('the owner invites an operator, who accepts from the e-mail and sees only w
 	await expect(row.getByLabel(/^Role of /)).toHaveValue('admin');
 	expect((await p2.goto('/shops/fernhill-precision/members'))?.status()).toBe(200);
 	await row.getByRole('button', { name: /^Remove / }).click();
+	// Removal asks first, naming the person (issue 18).
+	await page
+		.getByTestId('confirm-remove')
+		.getByRole('button', { name: 'Remove Erin Example' })
+		.click();
 	await expect(page.getByTestId('members-table')).not.toContainText(invitee);
-	expect((await p2.goto('/shops/fernhill-precision'))?.status()).toBe(404);
+	// The removed member's next request lands on "no longer has access", not in the shop.
+	await p2.goto('/shops/fernhill-precision');
+	await expect(p2).toHaveURL(/\/access-ended\/fernhill-precision$/);
+	await expect(p2.getByTestId('access-ended')).toContainText('no longer have access');
 	await ctx.close();
 });
 

@@ -1,6 +1,5 @@
 import type { Knex } from 'knex';
 import { DEFAULT_POLICY } from '$lib/offsets';
-import { shopPolicy } from '../shops/settings';
 import type { FleetBoard, FleetMachine, Health, LastCheck } from '$lib/fleet';
 
 /**
@@ -19,11 +18,14 @@ import type { FleetBoard, FleetMachine, Health, LastCheck } from '$lib/fleet';
  * data says right now about staleness, so a reference re-set this morning shows as Stale on the
  * board before the nightly check has run.
  */
-export async function fleetBoard(trx: Knex.Transaction, now = new Date()): Promise<FleetBoard> {
-	// The shop's own ages (settings), else the engine's defaults: the same ages the check uses.
-	const policy = await shopPolicy(trx);
-	const toolDays = policy.toolMaxAgeDays ?? DEFAULT_POLICY.inch.toolMaxAgeDays;
-	const workDays = policy.workMaxAgeDays ?? DEFAULT_POLICY.inch.workMaxAgeDays;
+export async function fleetBoard(
+	trx: Knex.Transaction,
+	now = new Date(),
+	/** The shop's own age limits (settings; see boardAges), else the engine's defaults. */
+	ages: { toolDays?: number; workDays?: number } = {}
+): Promise<FleetBoard> {
+	const toolDays = ages.toolDays ?? DEFAULT_POLICY.inch.toolMaxAgeDays;
+	const workDays = ages.workDays ?? DEFAULT_POLICY.inch.workMaxAgeDays;
 	const machines = await trx.raw(
 		`with ref as (
 			select distinct on (machine_id) machine_id, version, established_at

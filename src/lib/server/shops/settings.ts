@@ -53,6 +53,20 @@ export async function shopPolicy(trx: Knex.Transaction): Promise<PolicyInput> {
 	return (row?.check_policy ?? {}) as PolicyInput;
 }
 
+/**
+ * The age limits the fleet board counts with, read before the board's own queries (which read
+ * only tables that announce their changes; a settings change reaches a cached board within its
+ * 5 s life).
+ */
+export async function boardAges(
+	knex: Knex | Knex.Transaction,
+	shopId: number
+): Promise<{ toolDays?: number; workDays?: number }> {
+	const row = await knex('public.shops').where({ id: shopId }).first('check_policy');
+	const p = (row?.check_policy ?? {}) as PolicyInput;
+	return { toolDays: p.toolMaxAgeDays, workDays: p.workMaxAgeDays };
+}
+
 /** The units a new machine starts with in this shop. */
 export async function defaultUnits(knex: Knex | Knex.Transaction, shopId: number): Promise<Units> {
 	const row = await knex('public.shops').where({ id: shopId }).first('default_units');
