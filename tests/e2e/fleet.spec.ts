@@ -65,9 +65,11 @@ test('a lead sees Mill 1 flagged, checks now, acknowledges its finding and the b
 	await item
 		.getByTestId('finding-comment')
 		.fill('Spare, not in the pump housing job; re-touch before use');
+	// Read before acknowledging: the finding then leaves this "open" list.
+	const id = await item.getAttribute('data-finding-id');
 	await item.getByRole('button', { name: 'Acknowledge' }).click();
 	// Acknowledged findings leave the "open" list; show them all to see the history.
-	const id = await item.getAttribute('data-finding-id');
+	await expect(page.locator(`[data-testid="finding"][data-finding-id="${id}"]`)).toHaveCount(0);
 	await page.goto(`${findings}?machine=1&status=all`);
 	const acked = page.locator(`[data-testid="finding"][data-finding-id="${id}"]`);
 	await expect(acked.getByTestId('finding-status')).toHaveText('◐Acknowledged');
