@@ -20,10 +20,14 @@ import { boardVerification } from '../readbacks/status';
  * data says right now about staleness, so a reference re-set this morning shows as Stale on the
  * board before the nightly check has run.
  */
-export async function fleetBoard(trx: Knex.Transaction, now = new Date()): Promise<FleetBoard> {
-	// Engine defaults (shop policy, src/lib/offsets/policy.ts): the same ages the check uses.
-	const toolDays = DEFAULT_POLICY.inch.toolMaxAgeDays;
-	const workDays = DEFAULT_POLICY.inch.workMaxAgeDays;
+export async function fleetBoard(
+	trx: Knex.Transaction,
+	now = new Date(),
+	/** The shop's own age limits (settings; see boardAges), else the engine's defaults. */
+	ages: { toolDays?: number; workDays?: number } = {}
+): Promise<FleetBoard> {
+	const toolDays = ages.toolDays ?? DEFAULT_POLICY.inch.toolMaxAgeDays;
+	const workDays = ages.workDays ?? DEFAULT_POLICY.inch.workMaxAgeDays;
 	const machines = await trx.raw(
 		`with ref as (
 			select distinct on (machine_id) machine_id, version, established_at

@@ -1,4 +1,5 @@
 import type { Knex } from 'knex';
+import { shopPolicy } from '../shops/settings';
 import {
 	checkOffsets,
 	type CheckInput,
@@ -326,6 +327,8 @@ export async function machineState(
 	};
 	const checkInput: CheckInput = {
 		machine: engineMachine(machine),
+		// The shop's own limits (settings page); fields it left empty are the engine's defaults.
+		policy: await shopPolicy(trx),
 		table,
 		history,
 		now: now.toISOString(),
