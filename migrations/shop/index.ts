@@ -17,6 +17,7 @@ import * as m0015 from './20261203080000_allow_recording_gauge_line_z';
 import * as m0016 from './20261203085000_add_machine_photo';
 import * as m0017 from './20261203090000_create_current_offsets';
 import * as m0018 from './20261204090000_notify_board_changes';
+import * as m20261217a from './20261217090000_add_reading_device_time';
 
 /**
  * The migrations every shop schema gets, in order. Schema-agnostic: they run with the search
@@ -41,5 +42,6 @@ export const shopMigrations: Record<string, Knex.Migration> = {
 	'20261203080000_allow_recording_gauge_line_z': m0015,
 	'20261203085000_add_machine_photo': m0016,
 	'20261203090000_create_current_offsets': m0017,
-	'20261204090000_notify_board_changes': m0018
+	'20261204090000_notify_board_changes': m0018,
+	'20261217090000_add_reading_device_time': m20261217a
 };
