@@ -16,6 +16,7 @@ import { testDb, uniqueSuffix } from './db';
  */
 const knex: Knex = testDb();
 let shop: ShopRef;
+const slug = `queue-${uniqueSuffix()}`;
 let actor: { id: number; email: string };
 let mill: { id: number; t2: number };
 const MIN = 60_000;
@@ -32,7 +33,7 @@ const toolQueued = (over: Partial<QueuedReading> & { machineZ?: string } = {}): 
 		...over
 	});
 const record = (q: QueuedReading, now?: Date) =>
-	inShop((trx, m) => recordQueuedReading(trx, shop.slug, m, q, actor, now));
+	inShop((trx, m) => recordQueuedReading(trx, slug, m, q, actor, now));
 const readingsCount = () =>
 	withShop(shop, async (trx) => Number((await trx('readings').count('* as n'))[0].n), knex);
 
@@ -40,7 +41,7 @@ beforeAll(async () => {
 	const email = `queued-${uniqueSuffix()}@example.test`;
 	const [u] = await knex('users').insert({ email, name: 'Quinn Queue' }).returning('id');
 	actor = { id: Number(u.id), email };
-	shop = await provisionShop(knex, { name: 'Queue Test', slug: `queue-${uniqueSuffix()}` });
+	shop = await provisionShop(knex, { name: 'Queue Test', slug });
 	await withShop(
 		shop,
 		async (trx) => {

@@ -36,6 +36,8 @@ export const queuedReadingSchema = z.discriminatedUnion('kind', [
 ]);
 
 export type QueuedReading = z.infer<typeof queuedReadingSchema>;
+export type QueuedToolForm = z.infer<typeof toolFields>;
+export type QueuedPartTopForm = z.infer<typeof partTopFields>;
 
 /** A reason a queued reading was not recorded and waits for the operator (severity Stop). */
 export interface QueueStop {
@@ -50,6 +52,8 @@ export type QueuedReadingAnswer =
 			readingId: number;
 			label: string;
 			value: number;
+			/** The value with its units at the machine's increment, e.g. "-14.7504 in". */
+			valueText: string;
 			historyUrl: string;
 	  }
 	| {

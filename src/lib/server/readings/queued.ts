@@ -131,6 +131,7 @@ export async function recordQueuedReading(
 			readingId: Number(existing.id),
 			label,
 			value: Number(existing.value),
+			valueText: formatWithUnits(Number(existing.value), machine.units, machine.resolution),
 			historyUrl: historyUrl(shopSlug, machine.id, {
 				registerKind: existing.register_kind,
 				register: existing.register
@@ -191,7 +192,7 @@ export async function recordQueuedReading(
 			: {
 					kind: 'part-top',
 					tool_id: p.tool.id,
-					fixture_id: (computed.parsed as { fixture: { id: number } }).fixture.id,
+					fixture_id: 'fixture' in p ? (p.fixture as { id: number }).id : null,
 					instrument: `T${p.tool.t}, ${instrumentText(q.form.touchedThrough, p.block, machine)}`,
 					tool_changed: q.form.fixtureChanged
 				};
@@ -220,6 +221,7 @@ export async function recordQueuedReading(
 		readingId: saved.readingId,
 		label: preview.label,
 		value: preview.value,
+		valueText: formatWithUnits(preview.value, machine.units, machine.resolution),
 		historyUrl: historyUrl(shopSlug, machine.id, preview)
 	};
 }
