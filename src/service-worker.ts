@@ -99,13 +99,20 @@ sw.addEventListener('fetch', (event) => {
 	if (isKeptPath(url.pathname)) event.respondWith(networkFirst(request));
 });
 
+/** Pages kept ahead are fetched again at most this often (the pages poll for news anyway). */
+const WARM_EVERY_MS = 10 * 60_000;
+const warmedAt = new Map<string, number>();
+
 sw.addEventListener('message', (event) => {
 	const data = event.data as { type?: string; urls?: unknown } | null;
 	if (data?.type === 'warm' && Array.isArray(data.urls)) {
 		// Keep the machine's touch-off pages ahead of need: fetched while the connection is there.
+		const now = Date.now();
 		const urls = data.urls
 			.filter((u): u is string => typeof u === 'string' && u.startsWith('/shops/'))
+			.filter((u) => now - (warmedAt.get(u) ?? 0) > WARM_EVERY_MS)
 			.slice(0, 100);
+		for (const u of urls) warmedAt.set(u, now);
 		event.waitUntil(
 			(async () => {
 				const cache = await caches.open(PAGES);
