@@ -20,6 +20,7 @@ import * as m0018 from './20261204090000_notify_board_changes';
 import * as m1601 from './20261216000100_create_readbacks';
 import * as m1602 from './20261216000200_notify_board_readbacks';
 import * as m1603 from './20261216000300_add_extended_offsets_to_machines';
+import * as m20261217a from './20261217090000_add_reading_device_time';
 
 /**
  * The migrations every shop schema gets, in order. Schema-agnostic: they run with the search
@@ -47,5 +48,6 @@ export const shopMigrations: Record<string, Knex.Migration> = {
 	'20261204090000_notify_board_changes': m0018,
 	'20261216000100_create_readbacks': m1601,
 	'20261216000200_notify_board_readbacks': m1602,
-	'20261216000300_add_extended_offsets_to_machines': m1603
+	'20261216000300_add_extended_offsets_to_machines': m1603,
+	'20261217090000_add_reading_device_time': m20261217a
 };

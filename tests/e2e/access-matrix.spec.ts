@@ -100,6 +100,9 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	// Read-backs at the control: every role records them (like readings) and sees them.
 	'/shops/[shop]/machines/[machine]/readback': { allowed: ALL, actions: ['typed', 'file'] },
 	'/api/v1/shops/[shop]/machines/[machine]/readbacks': { allowed: ALL },
+	// At the machine (issue 17): label sheet and machine mode, for every member.
+	'/shops/[shop]/machines/[machine]/labels': { allowed: ALL },
+	'/shops/[shop]/machines/[machine]/machine-mode': { allowed: ALL },
 	'/api/v1/shops/[shop]/machines/[machine]/offsets': { allowed: ALL },
 	'/api/v1/shops/[shop]/machines/[machine]/readings': { allowed: ALL },
 	'/api/v1/shops/[shop]/setups': { allowed: ALL },
@@ -285,4 +288,17 @@ test('routes outside a shop answer as expected for a signed-in member', async ()
 		const res = await omar.get(path, { maxRedirects: 0 });
 		expect(res.status(), id).toBe(status);
 	}
+});
+
+test('queued readings (POST to the readings API): every role may send, outsiders 404, signed out 401', async ({
+	request
+}) => {
+	const path = `/api/v1/shops/${FERNHILL.slug}/machines/1/readings`;
+	for (const who of [...ROLES, 'outsider'] as Who[]) {
+		// A body that is not a reading: members get the refusal (400), nothing is recorded.
+		const res = await clients.get(who)!.post(path, { data: { kind: 'tool' } });
+		expect(res.status(), `${who} POST ${path}`).toBe(who === 'outsider' ? 404 : 400);
+	}
+	const anon = await request.post(path, { data: { kind: 'tool' } });
+	expect(anon.status()).toBe(401);
 });

@@ -554,7 +554,7 @@ export interface Recorded {
 	preview: ReadingPreview;
 }
 
-async function writeReadingAndOffset(
+export async function writeReadingAndOffset(
 	trx: Knex.Transaction,
 	machine: MachineRecord,
 	actor: Actor,
@@ -601,7 +601,7 @@ async function writeReadingAndOffset(
 	return { readingId: Number(r.id), offsetVersionId: Number(o.id), preview };
 }
 
-const instrumentText = (through: TouchThrough, block: number, machine: MachineRecord) =>
+export const instrumentText = (through: TouchThrough, block: number, machine: MachineRecord) =>
 	through === 'directly'
 		? 'directly'
 		: `${through} ${formatWithUnits(block, machine.units, machine.resolution)}`;
