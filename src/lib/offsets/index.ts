@@ -99,3 +99,27 @@ export {
 	type ProgramSetup,
 	type RegisterState
 } from './program';
+export {
+	edgePosition,
+	centreFromEdges,
+	approachWords,
+	EDGE_AXES,
+	APPROACH_SIDES,
+	type EdgeAxis,
+	type ApproachSide,
+	type EdgeTouch,
+	type FeatureSide,
+	type CentreResult
+} from './edges';
+export {
+	proposeWear,
+	wearBeyondLimit,
+	effectiveValue,
+	DEFAULT_WEAR_LIMIT,
+	MEASURED_FEATURES,
+	type WearProposal,
+	type WearRegister,
+	type MeasuredFeature,
+	type CutterRegisterMode
+} from './wear';
+export { toolOffsetFromPresetter } from './presetter';
