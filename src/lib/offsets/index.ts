@@ -132,3 +132,27 @@ export {
 	type ReadbackValues,
 	type OneSided
 } from './readback';
+export {
+	edgePosition,
+	centreFromEdges,
+	approachWords,
+	EDGE_AXES,
+	APPROACH_SIDES,
+	type EdgeAxis,
+	type ApproachSide,
+	type EdgeTouch,
+	type FeatureSide,
+	type CentreResult
+} from './edges';
+export {
+	proposeWear,
+	wearBeyondLimit,
+	effectiveValue,
+	DEFAULT_WEAR_LIMIT,
+	MEASURED_FEATURES,
+	type WearProposal,
+	type WearRegister,
+	type MeasuredFeature,
+	type CutterRegisterMode
+} from './wear';
+export { toolOffsetFromPresetter } from './presetter';
