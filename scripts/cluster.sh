@@ -11,7 +11,7 @@
 #   CLUSTER_PORT_BASE=4700                  HAProxy = base, PgBouncer = base+1, HAProxy stats
 #                                           = base+2, app nodes = base+11, base+12, …
 #   CLUSTER_POOL_SIZE=20                    PgBouncer server connections per database/user
-#   CLUSTER_DIR=<data>/cluster              generated configs, logs, pids (one `name=pid` a line)
+#   CLUSTER_DIR=<data>/cluster-<base>       generated configs, logs, pids (one `name=pid` a line)
 #   CLUSTER_BUILD=auto|always|never         production build before starting
 #   DATABASE_URL, REDIS_URL, FAKE_*_PORT    as for `npm start` (scripts/env.sh, .env)
 #   CLUSTER_DIRECT_URL                      the feed's session connection (default DATABASE_URL;
@@ -41,7 +41,7 @@ LB_PORT="$BASE"
 PGB_PORT=$((BASE + 1))
 STATS_PORT=$((BASE + 2))
 node_port() { echo $((BASE + 10 + $1)); }
-DIR="${CLUSTER_DIR:-$(data_dir)/cluster}"
+DIR="${CLUSTER_DIR:-$(data_dir)/cluster-$BASE}"
 LB_URL="http://127.0.0.1:$LB_PORT"
 
 DIRECT_URL="${CLUSTER_DIRECT_URL:-$DATABASE_URL}"
@@ -187,5 +187,16 @@ curl -fsS -o /dev/null "$LB_URL/healthz" || die "the load balancer has no health
 
 say "cluster ready at $LB_URL — $NODES app nodes, $WORKERS workers, PgBouncer 127.0.0.1:$PGB_PORT (transaction pooling), HAProxy stats http://127.0.0.1:$STATS_PORT"
 say "logs and configs in $DIR; Ctrl-C stops everything"
-wait -n "${pids[@]}" || true
-say "a cluster process ended; stopping the rest (see $DIR/*.log)"
+# A worker or app node that ends is reported and the rest carry on (as behind a supervisor
+# that would restart it; HAProxy takes a dead node out). Without HAProxy or PgBouncer, stop.
+left=("${pids[@]}")
+while [ ${#left[@]} -gt 0 ]; do
+	ended=""; code=0
+	wait -n -p ended "${left[@]}" || code=$?
+	[ -n "$ended" ] || break
+	name="$(grep "=$ended\$" "$DIR/pids" | cut -d= -f1)"
+	say "$name ended (exit $code; see $DIR/$name.log)"
+	case "$name" in haproxy | pgbouncer) break ;; esac
+	next=(); for p in "${left[@]}"; do [ "$p" = "$ended" ] || next+=("$p"); done; left=("${next[@]}")
+done
+say "stopping the cluster"
