@@ -176,7 +176,13 @@ test('a write answered by one node is read on the other at once, though its feed
 		)
 		.toBeTruthy();
 
-	// Node 2 caches the board (its feed is live: started in beforeAll).
+	// Node 2 caches the board once its (slow) feed, started in beforeAll, is live.
+	await expect
+		.poll(
+			async () => (await (await lead.get('/healthz', { headers: pin(2) })).json()).changeFeed?.live,
+			{ timeout: 20_000 }
+		)
+		.toBe(true);
 	const before = await acknowledgedOn(lead, 2);
 	expect(await acknowledgedOn(lead, 2)).toBe(before);
 

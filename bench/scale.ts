@@ -1,0 +1,346 @@
+/**
+ * `npm run bench -- scale` (issue 19): how cost grows with the number of shops (schemas).
+ *
+ * A fresh database of its own (`datumkeep_scale_bench`, loopback only) grows to each size in
+ * BENCH_SCALE_SIZES (default 10,100,1000 — the 1,000 step takes a while: run it once). Shops
+ * are made by the real `provisionShop` (sign-up's schema creation) and given bulk data
+ * (bench/fleet-data.ts without the per-shop ANALYZE): 3 machines with 20 tools and 60
+ * readings each, and every 20th shop 50 machines with 1,000 readings. At each size:
+ *
+ * - sign-up: the median time of `provisionShop` over the last 10 shops made;
+ * - the catalog: database size, pg_class rows, the size of pg_catalog itself;
+ * - migrating every shop schema for one new shop migration (an added column and index), one
+ *   transaction per schema through Knex's migrator, as `npm run migrate` does;
+ * - the nightly checks of every shop: one `nightly` job per shop on the shop-checks queue of
+ *   `npm run cluster`'s 2 workers (2 jobs at a time each), wall time until all are done, and
+ *   where the time goes (per-shop check time for small and big shops, from check_runs);
+ * - the fleet board API of a 50-machine shop through HAProxy: round robin over 2 app nodes,
+ *   then pinned to 1 node (`x-datumkeep-pin`), BENCH_SECONDS (8) each, 20 connections.
+ *
+ * The cluster (scripts/cluster.sh: HAProxy, 2 nodes, PgBouncer, 2 workers) runs on
+ * BENCH_CLUSTER_PORT_BASE (default CLUSTER_PORT_BASE + 40, else 4740) against this database.
+ * Figures go to the console and bench/out/scale.json; docs/PERFORMANCE.md explains them. The
+ * database is dropped at the end unless BENCH_KEEP_DB=1.
+ */
+import { spawn, type ChildProcess } from 'node:child_process';
+import { randomBytes } from 'node:crypto';
+import { mkdirSync, writeFileSync } from 'node:fs';
+import { cpus, loadavg } from 'node:os';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import autocannon from 'autocannon';
+import { Queue } from 'bullmq';
+import { Redis } from 'ioredis';
+import type { Knex } from 'knex';
+import { hashPassword } from '$lib/server/auth/password';
+import { config } from '$lib/server/config';
+import { createDb } from '$lib/server/db';
+import { assertLoopbackDatabase } from '$lib/server/db/loopback';
+import { migratePublic } from '$lib/server/db/migrate';
+import { shopMigrations } from '$migrations/shop/index';
+import { provisionShop, type ProvisionedShop } from '$lib/server/shops/provision';
+import { seedScaleShop } from './fleet-data';
+
+const here = dirname(fileURLToPath(import.meta.url));
+const root = join(here, '..');
+const DB_NAME = 'datumkeep_scale_bench';
+const SIZES = (process.env.BENCH_SCALE_SIZES ?? '10,100,1000').split(',').map(Number);
+const SECONDS = Number(process.env.BENCH_SECONDS ?? 8);
+const CONNECTIONS = 20;
+const BIG_EVERY = 20;
+const PORT_BASE = Number(
+	process.env.BENCH_CLUSTER_PORT_BASE ?? Number(process.env.CLUSTER_PORT_BASE ?? 4700) + 40
+);
+const QUEUE_PREFIX = `${process.env.QUEUE_PREFIX ?? 'datumkeep'}-scale`;
+const LEAD = { email: 'lead@scale.example', password: 'scale-bench-password' };
+
+const secs = (ms: number) => Math.round(ms / 100) / 10;
+const median = (v: number[]) => [...v].sort((a, b) => a - b)[Math.floor(v.length / 2)] ?? NaN;
+const la = () =>
+	loadavg()
+		.map((l) => l.toFixed(2))
+		.join(' ');
+const say = (s: string) => console.log(`scale bench: ${s}`);
+
+function benchUrl(): string {
+	const url = new URL(config.databaseUrl);
+	assertLoopbackDatabase(url.toString(), false); // it drops and re-creates its database
+	url.pathname = `/${DB_NAME}`;
+	return url.toString();
+}
+
+async function onAdmin(url: string, fn: (k: Knex) => Promise<unknown>) {
+	const admin = new URL(url);
+	admin.pathname = '/postgres';
+	const k = createDb(admin.toString());
+	try {
+		await fn(k);
+	} finally {
+		await k.destroy();
+	}
+}
+
+/** One shop: provisioned (timed), seeded, with a finished check so workers skip a first check. */
+async function addShop(knex: Knex, i: number): Promise<{ shop: ProvisionedShop; ms: number }> {
+	const t = performance.now();
+	const shop = await provisionShop(knex, { name: `Scale Shop ${i}`, slug: `scale-shop-${i}` });
+	const ms = performance.now() - t;
+	const machines = i % BIG_EVERY === 1 ? 50 : 3;
+	await seedScaleShop(knex, shop, machines, machines * 20, false);
+	await knex(`${shop.schemaName}.check_runs`).insert({
+		job_id: `seed-${i}`,
+		trigger: 'manual',
+		checked_at: knex.fn.now(),
+		finished_at: knex.fn.now(),
+		status: 'done'
+	});
+	return { shop, ms };
+}
+
+async function catalog(knex: Knex) {
+	const { rows } = await knex.raw(
+		`select pg_database_size(current_database())::bigint as db_bytes,
+			(select count(*) from pg_class)::int as pg_class_rows,
+			(select sum(pg_total_relation_size(c.oid)) from pg_class c
+				join pg_namespace n on n.oid = c.relnamespace
+				where n.nspname = 'pg_catalog' and c.relkind = 'r')::bigint as catalog_bytes`
+	);
+	const r = rows[0];
+	return {
+		databaseMiB: Math.round(Number(r.db_bytes) / 1048576),
+		pgClassRows: r.pg_class_rows,
+		catalogMiB: Math.round(Number(r.catalog_bytes) / 1048576)
+	};
+}
+
+/** Every shop schema migrated for one new migration, one transaction each (as migrateAll). */
+async function migrateAllFor(knex: Knex, size: number, schemas: string[]) {
+	const name = `29991231${String(size).padStart(6, '0')}_bench_add_machine_note`;
+	const column = `bench_note_${size}`;
+	const list: Record<string, Knex.Migration> = {
+		...shopMigrations,
+		[name]: {
+			up: async (k) => {
+				await k.schema.alterTable('machines', (t) => t.text(column));
+				await k.schema.alterTable('machines', (t) => t.index([column], `machines_${column}_idx`));
+			},
+			down: async (k) => k.schema.alterTable('machines', (t) => t.dropColumn(column))
+		}
+	};
+	const source: Knex.MigrationSource<string> = {
+		getMigrations: async () => Object.keys(list).sort(),
+		getMigrationName: (n) => n,
+		getMigration: async (n) => list[n]
+	};
+	const t = performance.now();
+	for (const schema of schemas) {
+		await knex.transaction(async (trx) => {
+			await trx.raw('set local search_path to ??, public', [schema]);
+			await trx.migrate.latest({ migrationSource: source, schemaName: schema });
+		});
+	}
+	return performance.now() - t;
+}
+
+/** Nightly jobs for every shop on the cluster's queue; wall time until the queue is empty. */
+async function nightlyChecks(knex: Knex, queue: Queue, size: number, shops: ProvisionedShop[]) {
+	const t = performance.now();
+	await queue.addBulk(
+		shops.map((s) => ({
+			name: 'nightly',
+			data: { shopId: s.id },
+			opts: { jobId: `bench-${size}-${s.id}`, attempts: 3, removeOnComplete: true }
+		}))
+	);
+	for (;;) {
+		const c = await queue.getJobCounts('waiting', 'active', 'delayed', 'prioritized');
+		if (c.waiting + c.active + c.delayed + c.prioritized === 0) break;
+		await new Promise((r) => setTimeout(r, 200));
+	}
+	const wallMs = performance.now() - t;
+	// Where the time goes: each shop's own check time, from its check_runs row.
+	const union = shops
+		.map(
+			(s) =>
+				`select ${s.id} as shop_id, status, machines, extract(epoch from finished_at - started_at) * 1000 as ms
+				from ${s.schemaName}.check_runs where job_id = 'bench-${size}-${s.id}'`
+		)
+		.join(' union all ');
+	const { rows } = await knex.raw(union);
+	const done = rows.filter((r: { status: string }) => r.status === 'done');
+	const small = done
+		.filter((r: { machines: number }) => r.machines < 50)
+		.map((r: { ms: number }) => Number(r.ms));
+	const big = done
+		.filter((r: { machines: number }) => r.machines >= 50)
+		.map((r: { ms: number }) => Number(r.ms));
+	const machines = done.reduce((n: number, r: { machines: number }) => n + r.machines, 0);
+	return {
+		wallS: secs(wallMs),
+		shopsDone: done.length,
+		machines,
+		machinesPerSecond: Math.round(machines / (wallMs / 1000)),
+		smallShopMedianMs: Math.round(median(small)),
+		bigShopMedianMs: Math.round(median(big)),
+		sumOfShopCheckS: secs(done.reduce((n: number, r: { ms: number }) => n + Number(r.ms), 0))
+	};
+}
+
+async function load(url: string, headers: Record<string, string>) {
+	const times: number[] = [];
+	const instance = autocannon({ url, connections: CONNECTIONS, duration: SECONDS, headers });
+	instance.on('response', (_c, _s, _b, rt) => times.push(rt));
+	const result = await instance;
+	times.sort((a, b) => a - b);
+	const p = (q: number) => times[Math.min(times.length - 1, Math.ceil(q * times.length) - 1)];
+	return {
+		requestsPerSecond: Math.round(times.length / SECONDS),
+		p50: Math.round(p(0.5) * 10) / 10,
+		p95: Math.round(p(0.95) * 10) / 10,
+		non2xx: result.non2xx,
+		errors: result.errors
+	};
+}
+
+function startCluster(env: NodeJS.ProcessEnv): Promise<{ child: ChildProcess; url: string }> {
+	const child = spawn('bash', [join(root, 'scripts/cluster.sh')], {
+		cwd: root,
+		env,
+		stdio: ['ignore', 'pipe', 'pipe']
+	});
+	let out = '';
+	return new Promise((resolve, reject) => {
+		const onData = (b: Buffer) => {
+			out += b.toString();
+			const url = /cluster ready at (\S+)/.exec(out)?.[1];
+			if (url) resolve({ child, url });
+		};
+		child.stdout!.on('data', onData);
+		child.stderr!.on('data', onData);
+		child.once('exit', (code) => reject(new Error(`cluster exited (${code}):\n${out}`)));
+	});
+}
+
+async function signIn(origin: string): Promise<string> {
+	const res = await fetch(`${origin}/signin`, {
+		method: 'POST',
+		redirect: 'manual',
+		headers: { origin, accept: 'text/html', 'content-type': 'application/x-www-form-urlencoded' },
+		body: new URLSearchParams({ email: LEAD.email, password: LEAD.password, next: '/shops' })
+	});
+	if (![302, 303].includes(res.status)) throw new Error(`sign-in answered ${res.status}`);
+	return res.headers
+		.getSetCookie()
+		.map((c) => c.split(';')[0])
+		.join('; ');
+}
+
+async function main() {
+	const url = benchUrl();
+	say(`node ${process.version}, ${cpus().length} CPUs, load average ${la()} (shared machine)`);
+	await onAdmin(url, async (k) => {
+		await k.raw('drop database if exists ?? with (force)', [DB_NAME]);
+		await k.raw('create database ??', [DB_NAME]);
+	});
+	const knex = createDb(url);
+	let cluster: ChildProcess | undefined;
+	const redis = new Redis(config.redisUrl, { maxRetriesPerRequest: null });
+	const queue = new Queue('shop-checks', { connection: redis, prefix: QUEUE_PREFIX });
+	const results: Record<string, unknown>[] = [];
+	try {
+		await migratePublic(knex);
+		const [lead] = await knex('public.users')
+			.insert({
+				email: LEAD.email,
+				name: 'Scale Lead',
+				password_hash: await hashPassword(LEAD.password)
+			})
+			.returning('id');
+		const shops: ProvisionedShop[] = [];
+		let lbUrl = '';
+		let cookie = '';
+		for (const size of SIZES) {
+			const t = performance.now();
+			const provisionMs: number[] = [];
+			while (shops.length < size) {
+				const { shop, ms } = await addShop(knex, shops.length + 1);
+				shops.push(shop);
+				provisionMs.push(ms);
+				if (shops.length === 1)
+					await knex('public.memberships').insert({
+						user_id: lead.id,
+						shop_id: shop.id,
+						role: 'lead'
+					});
+				if (shops.length % 100 === 0) say(`${shops.length} shops (load ${la()})`);
+			}
+			const growS = secs(performance.now() - t);
+			if (!cluster) {
+				const started = await startCluster({
+					...process.env,
+					DATABASE_URL: url,
+					QUEUE_PREFIX,
+					CLUSTER_PORT_BASE: String(PORT_BASE),
+					AUTH_SECRET: randomBytes(32).toString('hex'),
+					CLUSTER_NODES: '2',
+					CLUSTER_WORKERS: '2',
+					FLEET_BOARD_CACHE: process.env.FLEET_BOARD_CACHE ?? 'on'
+				});
+				cluster = started.child;
+				lbUrl = started.url;
+				cookie = await signIn(lbUrl);
+				say(`cluster at ${lbUrl}`);
+			}
+			const cat = await catalog(knex);
+			const migrateMs = await migrateAllFor(
+				knex,
+				size,
+				shops.map((s) => s.schemaName)
+			);
+			const checks = await nightlyChecks(knex, queue, size, shops);
+			const board = `${lbUrl}/api/v1/shops/${shops[0].slug}/fleet`;
+			const headers = { cookie, 'accept-encoding': 'gzip' };
+			const twoNodes = await load(board, headers);
+			const oneNode = await load(board, { ...headers, 'x-datumkeep-pin': 'node-1' });
+			const row = {
+				shops: size,
+				growS,
+				signUpMedianMs: Math.round(median(provisionMs.slice(-10))),
+				...cat,
+				migrateAllS: secs(migrateMs),
+				migratePerSchemaMs: Math.round(migrateMs / size),
+				checks,
+				fleetApi: {
+					twoNodes,
+					oneNode,
+					ratio: Math.round((twoNodes.requestsPerSecond / oneNode.requestsPerSecond) * 100) / 100
+				},
+				loadAverage: la()
+			};
+			results.push(row);
+			console.log(JSON.stringify(row));
+		}
+	} finally {
+		if (cluster && cluster.exitCode === null) {
+			const exited = new Promise((r) => cluster!.once('exit', r));
+			cluster.kill('SIGTERM');
+			await Promise.race([exited, new Promise((r) => setTimeout(r, 15_000))]);
+		}
+		await queue.obliterate({ force: true }).catch(() => {});
+		await queue.close();
+		redis.disconnect();
+		await knex.destroy();
+		if (process.env.BENCH_KEEP_DB !== '1')
+			await onAdmin(url, (k) => k.raw('drop database if exists ?? with (force)', [DB_NAME]));
+	}
+	mkdirSync(join(here, 'out'), { recursive: true });
+	writeFileSync(
+		join(here, 'out', 'scale.json'),
+		JSON.stringify({ node: process.version, cpus: cpus().length, results }, null, 2)
+	);
+}
+
+main().catch((e) => {
+	console.error(e);
+	process.exit(1);
+});
