@@ -154,6 +154,7 @@ defaults
 	timeout connect 2s
 	timeout client 60s
 	timeout server 60s
+	timeout check 3s
 	retries 2
 	option redispatch
 
@@ -165,7 +166,7 @@ backend nodes
 	balance roundrobin
 	option httpchk GET /healthz
 	http-check expect rstring database....ok..true
-	default-server inter 1s fall 2 rise 1
+	default-server inter 1s fall 3 rise 1
 EOF
 	for i in $(seq "$NODES"); do printf '\tuse-server node-%s if { req.hdr(x-datumkeep-pin) -m str node-%s }\n' "$i" "$i"; done
 	for i in $(seq "$NODES"); do printf '\tserver node-%s 127.0.0.1:%s check\n' "$i" "$(node_port "$i")"; done
@@ -179,7 +180,7 @@ EOF
 } > "$DIR/haproxy.cfg"
 haproxy -W -db -f "$DIR/haproxy.cfg" > "$DIR/haproxy.log" 2>&1 & started haproxy $!
 wait_port "$LB_PORT" HAProxy "$DIR/haproxy.log"
-for _ in $(seq 100); do
+for _ in $(seq 300); do
 	curl -fsS -o /dev/null "$LB_URL/healthz" 2>/dev/null && break
 	sleep 0.2
 done
