@@ -7,6 +7,18 @@ export const config = {
 	get databaseUrl(): string {
 		return process.env.DATABASE_URL ?? 'postgres://postgres@127.0.0.1:54329/datumkeep';
 	},
+	/**
+	 * A session-level connection to the same database for what needs one: the change feed's
+	 * LISTEN. When DATABASE_URL points at a transaction-pooling PgBouncer (`npm run cluster`),
+	 * DATABASE_DIRECT_URL names PostgreSQL itself; otherwise both are the same server.
+	 */
+	get databaseDirectUrl(): string {
+		return process.env.DATABASE_DIRECT_URL || this.databaseUrl;
+	},
+	/** This app node's name in a cluster (NODE_NAME), sent as `x-datumkeep-node`; none alone. */
+	get nodeName(): string | undefined {
+		return process.env.NODE_NAME || undefined;
+	},
 	get redisUrl(): string {
 		return process.env.REDIS_URL ?? 'redis://127.0.0.1:63799/0';
 	},
