@@ -12,7 +12,7 @@ const lines = [
 		...shop.people.map((p) => `    ${p.role.padEnd(9)} ${p.email.padEnd(28)} ${p.name}`)
 	]),
 	'',
-	`Sent e-mail (fake SES): ${url}/dev/mailbox`,
+	`Sent e-mail (fake SES): ${url}/dev/mailbox (sign in: you see the mail sent to you)`,
 	''
 ];
 console.log(lines.join('\n'));

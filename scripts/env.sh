@@ -15,6 +15,9 @@ fi
 export PORT="${PORT:-5173}"
 export ORIGIN="${ORIGIN:-http://127.0.0.1:$PORT}"
 export DATABASE_URL="${DATABASE_URL:-postgres://postgres@127.0.0.1:54329/datumkeep}"
+# The app and the worker log in as the least-privilege role (src/lib/server/db/roles.ts);
+# scripts that migrate and seed use DATABASE_URL. Same server and database, user datumkeep_app.
+export DATABASE_APP_URL="${DATABASE_APP_URL:-$(printf '%s' "$DATABASE_URL" | sed -E 's#^([a-z]+://)([^@/]*@)?#\1datumkeep_app@#')}"
 export REDIS_URL="${REDIS_URL:-redis://127.0.0.1:63799/0}"
 export FAKE_SES_PORT="${FAKE_SES_PORT:-4579}"
 export FAKE_STRIPE_PORT="${FAKE_STRIPE_PORT:-12111}"

@@ -4,10 +4,12 @@
  */
 import { createDb } from '$lib/server/db';
 import { migrateAll } from '$lib/server/db/migrate';
+import { OWNER_ROLE } from '$lib/server/db/roles';
 import { explainDbError, exitWith, guardDatabaseUrl } from '$lib/server/cli/guard';
 
 const url = guardDatabaseUrl();
-const knex = createDb(url);
+// Logs in as DATABASE_URL (the superuser locally) and migrates as the owner role.
+const knex = createDb(url, { role: OWNER_ROLE });
 try {
 	const result = await migrateAll(knex);
 	const shopCount = Object.keys(result.shops).length;

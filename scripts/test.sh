@@ -44,6 +44,7 @@ npm run --silent check
 
 step "fresh test database"
 npx tsx scripts/create-db.ts --fresh
+npx tsx scripts/db-roles.ts
 npx tsx scripts/migrate.ts
 npx tsx scripts/seed.ts
 redis-cli -p "$REDIS_PORT" -n "$(printf '%s' "$REDIS_URL" | sed -E 's#.*/([0-9]+)$#\1#')" flushdb >/dev/null

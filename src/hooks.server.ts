@@ -7,6 +7,7 @@ import { changeFeed, perProcess, startedChangeFeed } from '$lib/server/db/change
 import { catchUp, parseWrote, WROTE_COOKIE, wroteCookie } from '$lib/server/db/read-your-writes';
 import { config } from '$lib/server/config';
 import { onlyReads } from '$lib/server/guard';
+import { requestGuard } from '$lib/server/request-guard';
 import { closeServerResources } from '$lib/server/shutdown';
 import { findUserById } from '$lib/server/users';
 
@@ -18,7 +19,8 @@ perProcess('shutdown', () => process.once('sveltekit:shutdown', () => void close
 
 /**
  * Fills `locals.user` from the Auth.js session, re-reading the user so a deleted account's
- * cookie stops working at once. The answer is kept for a minute per session cookie
+ * cookie, or one issued before the account's last password reset / sign-out / removal
+ * (session generation, users.session_generation), stops working at once. The answer is kept for a minute per session cookie
  * ($lib/server/auth/session-cache.ts: dropped when the user's row changes), which spares
  * most requests Auth.js's decryption; Auth.js re-issues the cookie (rolling expiry) on the
  * requests that do go through it. Access to shops is decided per load/action/endpoint by the
@@ -38,9 +40,16 @@ const loadUser: Handle = async ({ event, resolve }) => {
 	const version = sessions.version;
 	const session = await event.locals.auth();
 	const id = Number(session?.user?.id);
+	const generation = (session?.user as { generation?: number } | undefined)?.generation;
 	if (Number.isSafeInteger(id) && id > 0) {
 		const user = await findUserById(db(), id);
-		if (user) {
+		// A cookie from before a password reset, sign-out or removal carries an older
+		// generation: it is not a session any more (and the browser is told to drop it).
+		if (user && user.sessionGeneration !== generation) {
+			for (const c of event.cookies.getAll())
+				if (/^(__Secure-)?authjs\.session-token(\.\d+)?$/.test(c.name))
+					event.cookies.delete(c.name, { path: '/' });
+		} else if (user) {
 			const signedIn = { id: user.id, email: user.email, name: user.name };
 			event.locals.user = { ...signedIn };
 			// Under the cookie that came in and under the one Auth.js just re-issued (if any).
@@ -91,6 +100,7 @@ const securityHeaders: Handle = async ({ event, resolve }) => {
 };
 
 export const handle = sequence(
+	requestGuard,
 	othersWritesHeard,
 	authHandle,
 	loadUser,

@@ -75,7 +75,9 @@ test('a CSV with one bad row (on idle Mill 4) shows that row, column and value, 
 	await page.getByRole('button', { name: 'Check the file' }).click();
 	const preview = page.getByTestId('import-preview');
 	await expect(preview).toContainText('2 row(s) ready, 1 with errors.');
-	await expect(preview).toContainText('Row 3, column h ("H22"): H number must be a number.');
+	await expect(preview).toContainText(
+		'Row 3, column h ("H22"): H number must be a whole number; "H22" is not a whole number'
+	);
 	await page.screenshot({ path: `${shots}/csv-preview.png`, fullPage: true });
 	// "Import nothing" leaves the rack as it was.
 	await page.getByRole('link', { name: 'Import nothing' }).click();
@@ -110,7 +112,11 @@ test('a lead adds a machine; bad input names the field and saves nothing', async
 	await page.getByLabel('Name').fill('Mill 1');
 	await page.getByLabel('Z travel (in)').fill('twenty');
 	await page.getByRole('button', { name: 'Add the machine' }).click();
-	await expect(page.getByText('Z travel must be a number.')).toBeVisible();
+	await expect(page.getByText('Z travel must be a number; "twenty" is not a number')).toBeVisible();
+	// A decimal comma is refused with the reason, never read as 20 (it was, before).
+	await page.getByLabel('Z travel (in)').fill('20,5');
+	await page.getByRole('button', { name: 'Add the machine' }).click();
+	await expect(page.getByText('"20,5" has a comma: use a point for decimals')).toBeVisible();
 	await page.getByLabel('Z travel (in)').fill('508');
 	await page.getByRole('button', { name: 'Add the machine' }).click();
 	await expect(page.getByText(/Z travel 508 in is implausible/)).toBeVisible();

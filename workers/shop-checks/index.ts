@@ -11,6 +11,7 @@ import {
 } from '$lib/server/queues/shop-checks';
 import type { Closable } from '../index';
 import { processShopCheck } from './processor';
+import { withShop } from '$lib/server/db/tenant';
 
 /** Lock and stalled-job check timing from SHOP_CHECKS_LOCK_MS (BullMQ's defaults when unset). */
 function lockOptions(): { lockDuration?: number; stalledInterval?: number } {
@@ -36,10 +37,13 @@ export async function firstChecks(
 	const shops = await knex('public.shops').whereNotNull('schema_name').select('id', 'schema_name');
 	const queued: number[] = [];
 	for (const s of shops) {
-		const { rows } = await knex.raw('select exists (select 1 from ??.check_runs) as ran', [
-			s.schema_name
-		]);
-		if (rows[0].ran) continue;
+		// Through withShop: the worker's database role reaches a shop's tables only as that shop.
+		const ran = await withShop(
+			{ id: Number(s.id), schemaName: s.schema_name },
+			async (trx) => (await trx('check_runs').first('id')) !== undefined,
+			knex
+		);
+		if (ran) continue;
 		queued.push(Number(s.id));
 		await queue.add(
 			'first-check',

@@ -15,7 +15,13 @@ export const newPasswordField = z
 	.min(10, `Password too short: use ${PASSWORD_RULE}.`)
 	.max(200, 'Password too long: 200 characters at most.')
 	.regex(/[A-Za-z]/, `Password needs a letter: use ${PASSWORD_RULE}.`)
-	.regex(/[0-9]/, `Password needs a digit: use ${PASSWORD_RULE}.`);
+	.regex(/[0-9]/, `Password needs a digit: use ${PASSWORD_RULE}.`)
+	// bcrypt reads only the first 72 bytes: a longer password would be cut silently, so that
+	// anything sharing its first 72 bytes would also sign in.
+	.refine(
+		(p) => new TextEncoder().encode(p).length <= 72,
+		'Password too long: at most 72 bytes (72 plain letters or digits; accented letters and symbols take 2–4 bytes each).'
+	);
 
 export const SLUG_RULE =
 	'2–48 lowercase letters, digits or hyphens, starting and ending with a letter or digit';

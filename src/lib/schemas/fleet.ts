@@ -1,8 +1,9 @@
 import { z } from 'zod';
+import { idField, numberField, optionalNumberField } from './number';
 
 /** Acknowledge or resolve a finding: the comment says why (kept with the finding and audited). */
 export const findingActionSchema = z.object({
-	findingId: z.coerce.number().int().positive(),
+	findingId: idField('Finding', 'Unknown finding.'),
 	comment: z
 		.string()
 		.trim()
@@ -12,11 +13,12 @@ export const findingActionSchema = z.object({
 
 /** The local hour of the shop's nightly check. */
 export const checkHourSchema = z.object({
-	hour: z.coerce
-		.number()
-		.int('Pick a whole hour.')
-		.min(0, 'Pick an hour from 00 to 23.')
-		.max(23, 'Pick an hour from 00 to 23.')
+	hour: numberField('Hour', {
+		whole: true,
+		min: 0,
+		max: 23,
+		rangeMessage: 'Pick an hour from 00 to 23.'
+	})
 });
 
 /** "Check now": the form says what to check (the whole shop), so an empty post is refused. */
@@ -35,7 +37,7 @@ export const FINDING_FILTER_STATUSES = [
 	'all'
 ] as const;
 export const findingFilterSchema = z.object({
-	machine: z.coerce.number().int().positive().optional().catch(undefined),
+	machine: optionalNumberField('Machine', { whole: true, min: 1 }).catch(undefined),
 	status: z.enum(FINDING_FILTER_STATUSES).catch('unresolved'),
 	severity: z.enum(['any', 'stop', 'caution']).catch('any')
 });

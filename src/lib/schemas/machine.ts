@@ -6,17 +6,13 @@ import {
 	MAX_EXTENDED_REGISTER,
 	unitsSchema
 } from '$lib/offsets';
+import { lengthField, numberField, optionalLengthField } from './number';
 
 /**
  * Machine and reference forms, shared by the pages and the API. Enum fields reuse the engine's
  * schemas so a form can never save a value the engine cannot read.
  */
 export const INSTRUMENTS = ['1-2-3 block', 'gauge block', 'tool setter', 'other'] as const;
-
-const finite = (label: string) =>
-	z
-		.number({ message: `${label} must be a number.` })
-		.refine(Number.isFinite, `${label} must be a finite number.`);
 
 const machineShape = {
 	name: z
@@ -25,11 +21,16 @@ const machineShape = {
 		.min(1, 'Give the machine a name.')
 		.max(60, 'Name too long (60 characters at most).'),
 	units: unitsSchema,
-	zTravel: finite('Z travel').refine((v) => v > 0, 'Z travel must be greater than zero.'),
-	resolution: finite('Least increment').refine(
-		(v) => v > 0,
-		'Least increment must be greater than zero.'
-	),
+	zTravel: lengthField('Z travel', {
+		min: 0,
+		minExclusive: true,
+		rangeMessage: 'Z travel must be greater than zero.'
+	}),
+	resolution: numberField('Least increment', {
+		min: 0,
+		minExclusive: true,
+		rangeMessage: 'Least increment must be greater than zero.'
+	}),
 	controlStyle: controlStyleSchema.default('iso'),
 	/** How many extended work offsets the control has (G54.1 P1…Pn, or G54 P1…Pn). */
 	extendedWorkOffsets: z.coerce
@@ -89,14 +90,12 @@ const referenceShape = {
 	instrument: z.enum(INSTRUMENTS, {
 		message: `Instrument must be one of: ${INSTRUMENTS.join(', ')}.`
 	}),
-	height: finite('Height').refine((v) => v >= 0, 'Height cannot be negative.'),
+	height: lengthField('Height', { min: 0, rangeMessage: 'Height cannot be negative.' }),
 	location: z.string().trim().max(200, 'Location too long (200 characters at most).').default(''),
-	gaugeLineZ: finite('Gauge-line Z')
-		.refine(
-			(v) => v < 0,
-			'Gauge-line Z is a machine coordinate below Z home, so it must be negative.'
-		)
-		.optional(),
+	gaugeLineZ: optionalLengthField('Gauge-line Z').refine(
+		(v) => v === undefined || v < 0,
+		'Gauge-line Z is a machine coordinate below Z home, so it must be negative.'
+	),
 	note: z.string().trim().max(500, 'Note too long (500 characters at most).').default('')
 };
 

@@ -1,19 +1,20 @@
 import { z } from 'zod';
 import { ROLES } from '$lib/permissions';
 import { emailField, newPasswordField } from './auth';
+import { idField } from './number';
 
 const roleField = z.enum(ROLES, { message: `Role must be one of: ${ROLES.join(', ')}.` });
 
 export const inviteSchema = z.object({ email: emailField, role: roleField.default('operator') });
 export const changeRoleSchema = z.object({
-	membershipId: z.coerce.number().int().positive('Unknown member.'),
+	membershipId: idField('Member', 'Unknown member.'),
 	role: roleField
 });
 export const removeMemberSchema = z.object({
-	membershipId: z.coerce.number().int().positive('Unknown member.')
+	membershipId: idField('Member', 'Unknown member.')
 });
 export const invitationIdSchema = z.object({
-	invitationId: z.coerce.number().int().positive('Unknown invitation.')
+	invitationId: idField('Invitation', 'Unknown invitation.')
 });
 
 /** Accepting an invitation: a name and password only when the e-mail has no account yet. */

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { idField, lengthField, numberField } from './number';
 
 /** Setup states, in the order a setup moves through them. */
 export const SETUP_STATES = ['planned', 'on-machine', 'proven', 'closed'] as const;
@@ -30,17 +31,13 @@ export const NEXT_STATE: Record<SetupState, SetupState | null> = {
 /** Setups can be edited until they are proven; after that, copy them. */
 export const EDITABLE_STATES: readonly SetupState[] = ['planned', 'on-machine'];
 
-const id = (what: string) =>
-	z.coerce
-		.number({ message: `${what} must be chosen from the list.` })
-		.int(`${what} must be chosen from the list.`)
-		.positive(`${what} must be chosen from the list.`);
+const id = (what: string) => idField(what);
 
 const height = (what: string) =>
-	z.coerce
-		.number({ message: `${what} must be a number.` })
-		.refine(Number.isFinite, `${what} must be a number.`)
-		.refine((v) => v >= 0, `${what} cannot be negative: it is a height above the reference.`);
+	lengthField(what, {
+		min: 0,
+		rangeMessage: `${what} cannot be negative: it is a height above the reference.`
+	});
 
 /** One fixture on the table in this setup and the tallest thing on it (clamp, jaw, part top). */
 export const setupFixtureFormSchema = z.object({
@@ -55,7 +52,11 @@ export const setupOpFormSchema = z.object({
 		.min(1, 'Each op needs a name, e.g. "Op A — face and drill".')
 		.max(120, 'Op name is too long (120 characters at most).'),
 	/** 0 = no fixture chosen. */
-	fixtureId: z.coerce.number().int().nonnegative().default(0),
+	fixtureId: numberField('Fixture', {
+		whole: true,
+		min: 0,
+		rangeMessage: 'Fixture must be chosen from the list.'
+	}).default(0),
 	notes: z.string().trim().max(2000, 'Notes are too long (2000 characters at most).').default('')
 });
 
@@ -88,7 +89,7 @@ export const photoCaptionSchema = z.object({
 });
 
 export const photoIdSchema = z.object({
-	photoId: z.coerce.number().int().positive('Unknown photo.')
+	photoId: idField('Photo', 'Unknown photo.')
 });
 
 /** A machine with its fixtures and tools, for the setup form's pickers. */

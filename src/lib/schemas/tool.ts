@@ -1,29 +1,26 @@
 import { z } from 'zod';
+import { idField, numberField, optionalLengthField } from './number';
 
-// Plain number types (no unions or coercion) so superforms can read them from FormData; the CSV
-// reader turns its strings into numbers first (numberOrBlank).
+// Number fields read form text, CSV cells and JSON numbers through the one strict reader.
 const whole = (label: string, max: number) =>
-	z
-		.number({ message: `${label} must be a number.` })
-		.refine(
-			(v) => Number.isInteger(v) && v >= 1 && v <= max,
-			`${label} must be a whole number from 1 to ${max}.`
-		);
+	numberField(label, {
+		whole: true,
+		min: 1,
+		max,
+		rangeMessage: `${label} must be a whole number from 1 to ${max}.`
+	});
 
 const optionalLength = (label: string, positive: boolean) =>
-	z
-		.number({ message: `${label} must be a number.` })
-		.refine(Number.isFinite, `${label} must be a finite number.`)
-		.refine(
-			(v) => (positive ? v > 0 : v >= 0),
-			`${label} must be ${positive ? 'greater than zero' : 'zero or more'}.`
-		)
-		.optional();
+	optionalLengthField(label, {
+		min: 0,
+		minExclusive: positive,
+		rangeMessage: `${label} must be ${positive ? 'greater than zero' : 'zero or more'}.`
+	});
 
-/** A CSV cell for the schema: blank → undefined, text → Number (NaN fails with the field's message). */
-export function numberOrBlank(cell: string | undefined): number | undefined {
+/** A CSV cell for the schema: blank → undefined, otherwise the text as it is (the schema reads it). */
+export function numberOrBlank(cell: string | undefined): string | undefined {
 	const t = (cell ?? '').trim();
-	return t === '' ? undefined : Number(t);
+	return t === '' ? undefined : t;
 }
 
 /** A tool in a machine's rack: T number, H number (its tool length offset register), what it is. */
@@ -40,7 +37,7 @@ export const toolFormSchema = z.object({
 	nominalLength: optionalLength('Nominal length', true)
 });
 
-export const toolIdSchema = z.object({ toolId: z.coerce.number().int().positive('Unknown tool.') });
+export const toolIdSchema = z.object({ toolId: idField('Tool', 'Unknown tool.') });
 
 /** A fixture: the work offset register it uses and what it is. */
 export const fixtureFormSchema = z.object({
@@ -65,5 +62,5 @@ export const fixtureFormSchema = z.object({
 });
 
 export const fixtureIdSchema = z.object({
-	fixtureId: z.coerce.number().int().positive('Unknown fixture.')
+	fixtureId: idField('Fixture', 'Unknown fixture.')
 });

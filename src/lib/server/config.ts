@@ -8,12 +8,20 @@ export const config = {
 		return process.env.DATABASE_URL ?? 'postgres://postgres@127.0.0.1:54329/datumkeep';
 	},
 	/**
+	 * What the app and the worker log in as: DATABASE_APP_URL (the least-privilege
+	 * `datumkeep_app` role, see db/roles.ts), else DATABASE_URL. Scripts that migrate or seed
+	 * use DATABASE_URL.
+	 */
+	get appDatabaseUrl(): string {
+		return process.env.DATABASE_APP_URL || this.databaseUrl;
+	},
+	/**
 	 * A session-level connection to the same database for what needs one: the change feed's
-	 * LISTEN. When DATABASE_URL points at a transaction-pooling PgBouncer (`npm run cluster`),
+	 * LISTEN. When the app's URL points at a transaction-pooling PgBouncer (`npm run cluster`),
 	 * DATABASE_DIRECT_URL names PostgreSQL itself; otherwise both are the same server.
 	 */
 	get databaseDirectUrl(): string {
-		return process.env.DATABASE_DIRECT_URL || this.databaseUrl;
+		return process.env.DATABASE_DIRECT_URL || this.appDatabaseUrl;
 	},
 	/** This app node's name in a cluster (NODE_NAME), sent as `x-datumkeep-node`; none alone. */
 	get nodeName(): string | undefined {

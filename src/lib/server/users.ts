@@ -5,20 +5,35 @@ export interface UserRow {
 	email: string;
 	name: string;
 	passwordHash: string | null;
+	/** Session cookies issued under another generation are refused (hooks.server.ts). */
+	sessionGeneration: number;
 }
+
+const COLUMNS = ['id', 'email', 'name', 'password_hash', 'session_generation'];
+const toUser = (r: Record<string, unknown>): UserRow => ({
+	id: Number(r.id),
+	email: r.email as string,
+	name: r.name as string,
+	passwordHash: r.password_hash as string | null,
+	sessionGeneration: Number(r.session_generation)
+});
 
 export async function findUserByEmail(knex: Knex, email: string): Promise<UserRow | undefined> {
 	const r = await knex('public.users')
 		.whereRaw('lower(email) = lower(?)', [email.trim()])
-		.first('id', 'email', 'name', 'password_hash');
-	return r
-		? { id: Number(r.id), email: r.email, name: r.name, passwordHash: r.password_hash }
-		: undefined;
+		.first(COLUMNS);
+	return r ? toUser(r) : undefined;
 }
 
 export async function findUserById(knex: Knex, id: number): Promise<UserRow | undefined> {
-	const r = await knex('public.users').where({ id }).first('id', 'email', 'name', 'password_hash');
-	return r
-		? { id: Number(r.id), email: r.email, name: r.name, passwordHash: r.password_hash }
-		: undefined;
+	const r = await knex('public.users').where({ id }).first(COLUMNS);
+	return r ? toUser(r) : undefined;
+}
+
+/**
+ * Ends every session of this person at once (password reset, sign-out, removal from a shop):
+ * cookies carry the generation they were issued under, and the update drops the cached ones.
+ */
+export async function endAllSessions(knex: Knex, userId: number): Promise<void> {
+	await knex('public.users').where({ id: userId }).increment('session_generation', 1);
 }

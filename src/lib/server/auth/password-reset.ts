@@ -64,7 +64,13 @@ export async function completePasswordReset(
 			const again = await checkResetToken(trx as unknown as Knex, token);
 			return again.ok ? { ok: false, reason: 'used' } : again;
 		}
-		await trx('public.users').where({ id: row.user_id }).update({ password_hash: passwordHash });
+		// A new password ends every session signed in with the old one (session generation).
+		await trx('public.users')
+			.where({ id: row.user_id })
+			.update({
+				password_hash: passwordHash,
+				session_generation: trx.raw('session_generation + 1')
+			});
 		await trx('public.password_resets')
 			.where({ user_id: row.user_id })
 			.whereNull('used_at')

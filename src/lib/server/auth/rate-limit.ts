@@ -6,11 +6,24 @@ export interface RateLimit {
 	windowSeconds: number;
 }
 
-/** Our defaults for sign-in: 5 tries per e-mail and 20 per network address in 15 minutes. */
+/**
+ * Sign-in limits (our own choice). Failures count per account AND address, so one person
+ * guessing at one account is slowed without locking out the rest of a shop floor behind the
+ * same address (shared NAT), and nobody elsewhere can lock an account by failing on purpose:
+ * `freeFailures` tries, then a pause that doubles with every further failure
+ * (1, 2, 4 … minutes, at most `maxPauseSeconds`). One address failing across many accounts
+ * (credential stuffing) has its own, much higher, ceiling.
+ */
 export const SIGN_IN_LIMITS = {
-	perEmail: { max: 5, windowSeconds: 15 * 60 },
-	perAddress: { max: 20, windowSeconds: 15 * 60 }
-} satisfies Record<string, RateLimit>;
+	perAccountAddress: {
+		freeFailures: 5,
+		firstPauseSeconds: 60,
+		maxPauseSeconds: 60 * 60,
+		/** How long failures are remembered after the last one. */
+		memorySeconds: 24 * 60 * 60
+	},
+	perAddress: { max: 100, windowSeconds: 15 * 60 }
+} as const;
 
 export interface LimitResult {
 	allowed: boolean;
@@ -42,51 +55,61 @@ export async function clear(redis: Redis, key: string): Promise<void> {
 	await redis.del(key);
 }
 
+const norm = (email: string) => email.trim().toLowerCase();
+
 export const signInKeys = {
-	email: (email: string) => `dk:signin:email:${email.trim().toLowerCase()}`,
+	failures: (email: string, address: string) => `dk:signin:fail:${address}:${norm(email)}`,
+	pause: (email: string, address: string) => `dk:signin:pause:${address}:${norm(email)}`,
 	address: (address: string) => `dk:signin:addr:${address}`
 };
 
-/**
- * Whether sign-in is blocked for this e-mail or address: only failed attempts count, so a shop
- * whose whole crew signs in from one address each morning is never locked out by successes.
- */
+/** Whether this account may be tried from this address now; when not, until when. */
 export async function signInBlocked(
 	redis: Redis,
 	email: string,
 	address: string
 ): Promise<LimitResult> {
-	const [byEmail, byAddress] = await redis.mget(
-		signInKeys.email(email),
-		signInKeys.address(address)
-	);
-	const overEmail = Number(byEmail ?? 0) >= SIGN_IN_LIMITS.perEmail.max;
-	const overAddress = Number(byAddress ?? 0) >= SIGN_IN_LIMITS.perAddress.max;
-	if (!overEmail && !overAddress) {
-		return {
-			allowed: true,
-			remaining: Math.min(
-				SIGN_IN_LIMITS.perEmail.max - Number(byEmail ?? 0),
-				SIGN_IN_LIMITS.perAddress.max - Number(byAddress ?? 0)
-			),
-			retryAfterSeconds: 0
-		};
-	}
-	const ttls = await Promise.all([
-		overEmail ? redis.ttl(signInKeys.email(email)) : 0,
-		overAddress ? redis.ttl(signInKeys.address(address)) : 0
+	const [pauseMs, byAddress] = await Promise.all([
+		redis.pttl(signInKeys.pause(email, address)),
+		redis.get(signInKeys.address(address))
 	]);
-	return { allowed: false, remaining: 0, retryAfterSeconds: Math.max(1, ...ttls) };
+	if (pauseMs > 0)
+		return { allowed: false, remaining: 0, retryAfterSeconds: Math.ceil(pauseMs / 1000) };
+	if (Number(byAddress ?? 0) >= SIGN_IN_LIMITS.perAddress.max) {
+		const ttl = await redis.ttl(signInKeys.address(address));
+		return { allowed: false, remaining: 0, retryAfterSeconds: Math.max(1, ttl) };
+	}
+	return { allowed: true, remaining: 0, retryAfterSeconds: 0 };
 }
 
-/** Counts one failed sign-in against both the e-mail and the address. */
+/** The pause after the n-th failure in a row (0 while failures are still free). */
+export function pauseAfter(failures: number): number {
+	const l = SIGN_IN_LIMITS.perAccountAddress;
+	if (failures < l.freeFailures) return 0;
+	return Math.min(l.maxPauseSeconds, l.firstPauseSeconds * 2 ** (failures - l.freeFailures));
+}
+
+/** Counts one failed sign-in; starts (or lengthens) the pause once the free tries are used. */
 export async function recordSignInFailure(
 	redis: Redis,
 	email: string,
 	address: string
+): Promise<LimitResult> {
+	const l = SIGN_IN_LIMITS.perAccountAddress;
+	const key = signInKeys.failures(email, address);
+	const res = await redis.multi().incr(key).expire(key, l.memorySeconds).exec();
+	const failures = Number(res?.[0]?.[1] ?? 0);
+	await hit(redis, signInKeys.address(address), SIGN_IN_LIMITS.perAddress);
+	const pause = pauseAfter(failures);
+	if (pause > 0) await redis.set(signInKeys.pause(email, address), '1', 'EX', pause);
+	return { allowed: pause === 0, remaining: 0, retryAfterSeconds: pause };
+}
+
+/** A successful sign-in forgets this account's failures from this address. */
+export async function clearSignInFailures(
+	redis: Redis,
+	email: string,
+	address: string
 ): Promise<void> {
-	await Promise.all([
-		hit(redis, signInKeys.email(email), SIGN_IN_LIMITS.perEmail),
-		hit(redis, signInKeys.address(address), SIGN_IN_LIMITS.perAddress)
-	]);
+	await redis.del(signInKeys.failures(email, address), signInKeys.pause(email, address));
 }

@@ -22,6 +22,7 @@ import { renderEmail } from '../email/layout';
 import { sendEmail } from '../email/send';
 import { planForPrice } from './stripe';
 import { getShopBilling, type ShopBilling, type SubscriptionStatus } from './state';
+import { enterShop, leaveShop } from '../db/roles';
 
 type Obj = Record<string, unknown>;
 export type Outcome = 'applied' | 'stale' | 'ignored';
@@ -158,10 +159,15 @@ async function apply(
 	if (!(HANDLED_EVENTS as readonly string[]).includes(type)) {
 		return { outcome: 'ignored', note: `event type ${type} is not used`, shopId: null };
 	}
-	const shopId = await resolveShop(trx, type, o);
-	if (shopId === null) {
+	const resolved = await resolveShop(trx, type, o);
+	if (resolved === null) {
 		return { outcome: 'ignored', note: 'no shop matches this event', shopId: null };
 	}
+	if ('refused' in resolved) {
+		console.warn(`Stripe webhook: ${type} refused: ${resolved.refused}`);
+		return { outcome: 'ignored', note: `refused: ${resolved.refused}`, shopId: null };
+	}
+	const shopId = resolved.shopId;
 	const before = await getShopBilling(trx, shopId, true);
 	const ctx: Ctx = { trx, shopId, before, createdAt, changes: {}, audits: [] };
 
@@ -205,11 +211,11 @@ async function apply(
 		const { schema_name: schema } = await trx('public.shops')
 			.where({ id: shopId })
 			.first('schema_name');
-		await trx.raw('set local search_path to ??, public', [schema]);
+		await enterShop(trx, schema);
 		for (const a of ctx.audits) {
 			await audit(trx, { actorEmail: 'Stripe (webhook)', action: a.action, detail: a.detail });
 		}
-		await trx.raw('set local search_path to public');
+		await leaveShop(trx);
 	}
 	return { outcome: 'applied', note, shopId };
 }
@@ -223,8 +229,18 @@ interface Ctx {
 	audits: { action: string; detail: Record<string, unknown> }[];
 }
 
-/** Which shop an event is about: our metadata first, then the stored Stripe ids. */
-async function resolveShop(trx: Knex.Transaction, type: string, o: Obj): Promise<number | null> {
+/**
+ * Which shop an event is about. The stored Stripe ids decide: a customer or subscription we
+ * already know belongs to exactly one shop, whatever the event's metadata says. Metadata
+ * (`client_reference_id` / `shop_id`, set by our own checkout) is used only to attach a first
+ * checkout to a shop with no Stripe customer yet, and never against a stored id. Any
+ * disagreement is refused: a signed event for one shop's customer cannot change another shop.
+ */
+async function resolveShop(
+	trx: Knex.Transaction,
+	type: string,
+	o: Obj
+): Promise<{ shopId: number } | { refused: string } | null> {
 	let metaShop: string | undefined;
 	let subscriptionId: string | undefined;
 	if (type === 'checkout.session.completed') {
@@ -239,15 +255,36 @@ async function resolveShop(trx: Knex.Transaction, type: string, o: Obj): Promise
 		subscriptionId = idOf(details, 'subscription') ?? idOf(o, 'subscription');
 	}
 	const customerId = idOf(o, 'customer');
-	const candidates: Array<Record<string, unknown>> = [];
-	if (metaShop && /^[1-9][0-9]{0,15}$/.test(metaShop)) candidates.push({ id: Number(metaShop) });
-	if (subscriptionId) candidates.push({ stripe_subscription_id: subscriptionId });
-	if (customerId) candidates.push({ stripe_customer_id: customerId });
-	for (const where of candidates) {
+	const idOfRow = async (where: Record<string, unknown>) => {
 		const row = await trx('public.shops').where(where).first('id');
-		if (row) return Number(row.id);
+		return row ? Number(row.id) : null;
+	};
+	const byCustomer = customerId ? await idOfRow({ stripe_customer_id: customerId }) : null;
+	const bySubscription = subscriptionId
+		? await idOfRow({ stripe_subscription_id: subscriptionId })
+		: null;
+	const meta = metaShop && /^[1-9][0-9]{0,15}$/.test(metaShop) ? Number(metaShop) : null;
+	if (byCustomer !== null && bySubscription !== null && byCustomer !== bySubscription)
+		return {
+			refused: `customer ${customerId} belongs to shop ${byCustomer} but subscription ${subscriptionId} to shop ${bySubscription}`
+		};
+	const stored = byCustomer ?? bySubscription;
+	if (stored !== null) {
+		if (meta !== null && meta !== stored)
+			return {
+				refused: `metadata names shop ${meta} but the Stripe ids belong to shop ${stored}`
+			};
+		return { shopId: stored };
 	}
-	return null;
+	if (meta === null) return null;
+	// A first checkout: the named shop must not already have another Stripe customer.
+	const shop = await trx('public.shops').where({ id: meta }).first('id', 'stripe_customer_id');
+	if (!shop) return null;
+	if (shop.stripe_customer_id && shop.stripe_customer_id !== customerId)
+		return {
+			refused: `shop ${meta} already has Stripe customer ${shop.stripe_customer_id}, not ${customerId ?? 'none'}`
+		};
+	return { shopId: meta };
 }
 
 function mapStatus(stripeStatus: string | undefined): SubscriptionStatus | null {

@@ -28,7 +28,10 @@ export async function migratePublic(knex: Knex): Promise<string[]> {
  */
 export async function migrateShopSchema(trx: Knex.Transaction, schema: string): Promise<string[]> {
 	assertShopSchema(schema);
-	await trx.raw('create schema if not exists ??', [schema]);
+	// At sign-up the schema exists already (dk_begin_shop_schema, as the owner role); the app
+	// role may not create schemas, so look before creating.
+	const { rows } = await trx.raw('select 1 from pg_namespace where nspname = ?', [schema]);
+	if (rows.length === 0) await trx.raw('create schema ??', [schema]);
 	await trx.raw('set local search_path to ??, public', [schema]);
 	const [, ran] = await trx.migrate.latest({
 		migrationSource: staticSource(shopMigrations),
@@ -49,7 +52,12 @@ export async function migrateAll(
 		.select('schema_name')
 		.orderBy('id');
 	for (const { schema_name } of rows) {
-		shops[schema_name] = await knex.transaction((trx) => migrateShopSchema(trx, schema_name));
+		shops[schema_name] = await knex.transaction(async (trx) => {
+			const ran = await migrateShopSchema(trx, schema_name);
+			// New tables get the shop role's grants (append-only ones without UPDATE/DELETE).
+			await trx.raw('select public.dk_seal_shop_schema(?)', [schema_name]);
+			return ran;
+		});
 	}
 	return { public: pub, shops };
 }

@@ -1,6 +1,7 @@
 import { isRedirect } from '@sveltejs/kit';
 import type { Knex } from 'knex';
 import { db } from './index';
+import { enterShop } from './roles';
 import { assertShopSchema } from './schema-name';
 
 /** What a shop query needs to know about its shop: which schema holds its data. */
@@ -24,7 +25,8 @@ export async function withShop<T>(
 	// it is meant to follow. Catch it, commit, and throw it again afterwards.
 	let pending: unknown = undefined;
 	const result = await conn.transaction(async (trx) => {
-		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+		// The shop's own role and schema for the whole transaction (db/roles.ts).
+		await enterShop(trx, shop.schemaName);
 		try {
 			return await fn(trx);
 		} catch (e) {

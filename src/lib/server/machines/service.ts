@@ -4,6 +4,7 @@ import type { machineFormSchema, newMachineSchema } from '$lib/schemas/machine';
 import { audit } from '../audit';
 import { assertCanAddMachine } from '../billing/gate';
 import type { ShopRef } from '../db/tenant';
+import { enterShop } from '../db/roles';
 
 /** The extended work offset settings may be left out (0, addressed as G54.1 P). */
 type ExtendedOptional<T> = Omit<T, 'extendedWorkOffsets' | 'extendedAddress'> &
@@ -38,7 +39,7 @@ export async function createMachine(
 		return await knex.transaction(async (trx) => {
 			const gate = await assertCanAddMachine(trx, shop);
 			if (!gate.ok) return { ok: false, message: gate.message };
-			await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+			await enterShop(trx, shop.schemaName);
 			const [row] = await trx('machines')
 				.insert({
 					name: input.name,

@@ -6,6 +6,7 @@ import { config } from '../config';
 import { withShop, type ShopRef } from '../db/tenant';
 import { renderEmail } from '../email/layout';
 import { sendEmail } from '../email/send';
+import { enterShop } from '../db/roles';
 
 export const INVITATION_DAYS = 7;
 
@@ -77,13 +78,13 @@ export async function invite(
 	role: Role,
 	by: Actor,
 	ip = ''
-): Promise<{ token: string; alreadyMember: boolean }> {
+): Promise<{ token: string; alreadyMember: boolean; mailed: boolean }> {
 	const member = await knex('public.memberships as m')
 		.join('public.users as u', 'u.id', 'm.user_id')
 		.where('m.shop_id', shop.id)
 		.whereRaw('lower(u.email) = lower(?)', [email])
 		.first('m.id');
-	if (member) return { token: '', alreadyMember: true };
+	if (member) return { token: '', alreadyMember: true, mailed: false };
 	const { token, hash } = newToken();
 	await knex.transaction(async (trx) => {
 		await trx('public.invitations')
@@ -111,8 +112,15 @@ export async function invite(
 			ip
 		})
 	);
-	await mailInvitation(knex, shop, email, role, token, by);
-	return { token, alreadyMember: false };
+	// The invitation is saved either way; when the mail service is down the page says so and
+	// offers Resend (a new link) instead of answering 500 with the invitation kept.
+	try {
+		await mailInvitation(knex, shop, email, role, token, by);
+	} catch (e) {
+		console.error(`invitation e-mail to ${email} not sent:`, (e as Error).message);
+		return { token, alreadyMember: false, mailed: false };
+	}
+	return { token, alreadyMember: false, mailed: true };
 }
 
 /** Sends a pending invitation again with a new link (the old link stops working). */
@@ -129,8 +137,7 @@ export async function resendInvitation(
 		.whereNull('revoked_at')
 		.first('email', 'role');
 	if (!inv) return false;
-	await invite(knex, shop, inv.email, inv.role, by, ip);
-	return true;
+	return (await invite(knex, shop, inv.email, inv.role, by, ip)).mailed ? true : 'not-mailed';
 }
 
 export async function revokeInvitation(
@@ -245,7 +252,7 @@ export async function acceptInvitation(
 			.insert({ user_id: userId, shop_id: inv.shopId, role: inv.role })
 			.onConflict(['user_id', 'shop_id'])
 			.ignore();
-		await trx.raw('set local search_path to ??, public', [inv.schemaName]);
+		await enterShop(trx, inv.schemaName);
 		await audit(trx, {
 			actorUserId: userId,
 			actorEmail: inv.email,

@@ -1,9 +1,11 @@
 import type { Knex } from 'knex';
+import { endAllSessions } from '../users';
 import type { Role } from '$lib/permissions';
 import { audit } from '../audit';
 import { withShop, type ShopRef } from '../db/tenant';
 import { logLifecycle } from '../shops/lifecycle';
 import type { Actor } from './invitations';
+import { enterShop } from '../db/roles';
 
 export interface MemberView {
 	membershipId: number;
@@ -77,7 +79,7 @@ export async function changeRole(
 			};
 		}
 		await trx('public.memberships').where({ id: membershipId }).update({ role: newRole });
-		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+		await enterShop(trx, shop.schemaName);
 		await audit(trx, {
 			actorUserId: by.id,
 			actorEmail: by.email,
@@ -118,7 +120,9 @@ export async function removeMember(
 			actorEmail: by.email,
 			detail: { userId: Number(target.user_id), email: target.email, role: target.role }
 		});
-		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+		// Their open sessions end at once (session generation), not only this shop's access.
+		await endAllSessions(trx, Number(target.user_id));
+		await enterShop(trx, shop.schemaName);
 		await audit(trx, {
 			actorUserId: by.id,
 			actorEmail: by.email,

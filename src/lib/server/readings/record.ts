@@ -14,6 +14,8 @@ import {
 	type Finding,
 	type HistoryEntry
 } from '$lib/offsets';
+import { numberTextMessage, readNumberText } from '$lib/offsets/number-text';
+import { LENGTH_PLACES } from '$lib/schemas/number';
 import type { PartTopReadingForm, ToolReadingForm, TouchThrough } from '$lib/schemas/readings';
 import { audit } from '../audit';
 import {
@@ -74,11 +76,10 @@ export interface ReadingPreview {
 	referenceVersion: number;
 }
 
-const DECIMAL = /^[+-]?(\d+(\.\d*)?|\.\d+)$/;
-
 /**
- * A length as typed: plain decimal (a comma or a typographic minus is accepted), no more
- * decimals than the control shows. Collects issues instead of throwing.
+ * A length as typed, read by the app's one strict number reader (`readNumberText`: a point for
+ * decimals, no comma, no unit, no trailing text), with no more decimals than the control shows
+ * and no more than the database keeps. Collects issues instead of throwing.
  */
 export function parseLength(
 	machine: MachineRecord,
@@ -88,24 +89,23 @@ export function parseLength(
 	issues: ReadingIssue[],
 	opts: { required?: boolean; nonNegative?: boolean } = {}
 ): number | undefined {
-	const t = raw
-		.trim()
-		.replace(/\u2212/g, '-')
-		.replace(',', '.');
-	if (t === '') {
+	const read = readNumberText(raw);
+	if (!read.ok && read.empty) {
 		if (opts.required) issues.push({ field, message: `${label} is required.` });
 		return undefined;
 	}
 	const u = machine.units === 'inch' ? 'in' : 'mm';
-	if (!DECIMAL.test(t)) {
+	if (!read.ok) {
 		issues.push({
 			field,
-			message: `${label} must be a number in ${u}, such as ${machine.units === 'inch' ? '-14.7502' : '-289.835'} (got "${raw}").`
+			message: numberTextMessage(label, raw, read.reason, {
+				example: machine.units === 'inch' ? '-14.7502 in' : '-289.835 mm'
+			})
 		});
 		return undefined;
 	}
-	const places = (t.split('.')[1] ?? '').length;
-	const allowed = decimalsFor(machine.resolution);
+	const places = read.places;
+	const allowed = Math.min(decimalsFor(machine.resolution), LENGTH_PLACES);
 	if (places > allowed) {
 		issues.push({
 			field,
@@ -113,9 +113,9 @@ export function parseLength(
 		});
 		return undefined;
 	}
-	const v = Number(t);
+	const v = read.value;
 	if (opts.nonNegative && v < 0) {
-		issues.push({ field, message: `${label} cannot be negative (got ${t} ${u}).` });
+		issues.push({ field, message: `${label} cannot be negative (got ${v} ${u}).` });
 		return undefined;
 	}
 	return v;

@@ -97,6 +97,10 @@ export async function addSetupPhoto(
 ): Promise<{ ok: true; id: number } | { ok: false; message: string }> {
 	const checked = await checkPhoto(file);
 	if (!checked.ok) return checked;
+	// Parallel uploads to one setup wait here for each other (a row lock on the setup, held to
+	// the end of this transaction), so the count below includes every photo committed before:
+	// counting without it let 6 parallel uploads with 2 slots free store 6.
+	await trx('setups').where({ id: setupId }).forUpdate().first('id');
 	const [{ n }] = await trx('setup_photos').where({ setup_id: setupId }).count({ n: '*' });
 	if (Number(n) >= PHOTOS_PER_SETUP) {
 		return {

@@ -2,6 +2,7 @@ import type { Knex } from 'knex';
 import { audit } from '../audit';
 import { hashPassword } from '../auth/password';
 import { provisionShop, type ProvisionedShop } from './provision';
+import { enterShop, leaveShop } from '../db/roles';
 
 export interface NewOwner {
 	/** An existing account, or the details of a new one. */
@@ -37,7 +38,7 @@ export async function createShopWithOwner(
 		}
 		const created = await provisionShop(trx, shop, async (inner, s) => {
 			await inner('public.memberships').insert({ user_id: userId, shop_id: s.id, role: 'owner' });
-			await inner.raw('set local search_path to ??, public', [s.schemaName]);
+			await enterShop(inner, s.schemaName);
 			await audit(inner, {
 				actorUserId: userId,
 				actorEmail: owner.email,
@@ -46,7 +47,7 @@ export async function createShopWithOwner(
 				detail: { name: s.name },
 				ip
 			});
-			await inner.raw('set local search_path to public');
+			await leaveShop(inner);
 		});
 		return { shop: created, userId: userId! };
 	});

@@ -1,5 +1,6 @@
 import type { Knex } from 'knex';
 import { migrateShopSchema } from '../db/migrate';
+import { OWNER_ROLE } from '../db/roles';
 import { shopSchemaName } from '../db/schema-name';
 
 export interface NewShop {
@@ -33,7 +34,16 @@ export async function provisionShop(
 		const id = Number(row.id);
 		const schemaName = shopSchemaName(id);
 		await trx('shops').where({ id }).update({ schema_name: schemaName });
+		// The app role may not create schemas or own tables: the owner role makes the schema and
+		// the shop's role, the migrations run, then everything is handed to the owner role and
+		// the shop's role gets its grants (migrations/public/…_create_shop_provisioning_functions).
+		await trx.raw('select public.dk_begin_shop_schema(?)', [schemaName]);
+		const { rows } = await trx.raw("select current_setting('is_superuser') = 'on' as superuser");
+		// A superuser (the seed script, tests) creates as the owner role, never as itself.
+		if (rows[0].superuser) await trx.raw('set local role ??', [OWNER_ROLE]);
 		await migrateShopSchema(trx, schemaName);
+		if (rows[0].superuser) await trx.raw('set local role none');
+		await trx.raw('select public.dk_seal_shop_schema(?)', [schemaName]);
 		const created: ProvisionedShop = { id, slug: row.slug, name: row.name, schemaName };
 		if (inside) await inside(trx, created);
 		return created;

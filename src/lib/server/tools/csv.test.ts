@@ -17,7 +17,11 @@ describe('tool table CSV import', () => {
 		expect(r.rows[0].errors).toEqual([]);
 		expect(r.rows[0].tool).toMatchObject({ t: 1, h: 1, stickout: 1.375, nominalLength: null });
 		expect(r.rows[1].errors).toEqual([
-			{ column: 'h', value: 'H2', message: 'H number must be a number.' }
+			{
+				column: 'h',
+				value: 'H2',
+				message: 'H number must be a whole number; "H2" is not a whole number: use digits only.'
+			}
 		]);
 		expect(r.rows[2].errors[0]).toMatchObject({ column: 'description', value: '' });
 		expect(r.rows[3].errors[0]).toMatchObject({
@@ -30,6 +34,32 @@ describe('tool table CSV import', () => {
 			value: '1',
 			message: 'T1 is also on row 2.'
 		});
+	});
+
+	it('refuses an H number shared with another row or a tool in the rack, per row', () => {
+		const csv = ['t,h,description', '1,5,drill', '2,5,tap', '3,9,reamer', '4,6,spot'].join('\n');
+		const r = parseToolCsv(csv, new Set(), new Map([[9, 12]]));
+		if (!r.ok) throw new Error(r.message);
+		expect(r.rows.map((x) => x.errors.map((e) => e.message))).toEqual([
+			[],
+			['H5 is also on row 2 (T1); two tools cannot share one H number.'],
+			['H9 is already the length offset of T12 in this rack; two tools cannot share one H number.'],
+			[]
+		]);
+	});
+
+	it('reads number cells strictly: a decimal comma or a unit is refused, not truncated', () => {
+		const csv = [
+			't,h,description,stickout',
+			'1,1,drill,"1,5"',
+			'2,2,tap,25 mm',
+			'3,3,ream,1.25'
+		].join('\n');
+		const r = parseToolCsv(csv, new Set());
+		if (!r.ok) throw new Error(r.message);
+		expect(r.rows[0].errors[0].message).toContain('"1,5" has a comma');
+		expect(r.rows[1].errors[0].message).toContain('"25 mm" has a unit');
+		expect(r.rows[2].tool?.stickout).toBe(1.25);
 	});
 
 	it('refuses a T number already in the rack', () => {

@@ -44,9 +44,16 @@ const FIELD_COLUMN: Record<string, string> = {
 /**
  * Reads a tool table CSV and checks every row, without writing anything: each error names the
  * row, the column and the value. `existingT` are T numbers already in the rack (a T number is
- * one tool pocket, so a clash is an error); clashes inside the file are reported too.
+ * one tool pocket, so a clash is an error); clashes inside the file are reported too. An H number
+ * is one tool length offset register: two tools sharing one would share a length, so an H already
+ * in the rack or on another row is an error too.
  */
-export function parseToolCsv(text: string, existingT: Set<number>): ToolCsvResult {
+export function parseToolCsv(
+	text: string,
+	existingT: Set<number>,
+	/** H numbers in use in the rack → the T number using each. */
+	existingH: Map<number, number> = new Map()
+): ToolCsvResult {
 	if (Buffer.byteLength(text) > TOOL_CSV_MAX_BYTES) {
 		return {
 			ok: false,
@@ -79,6 +86,7 @@ export function parseToolCsv(text: string, existingT: Set<number>): ToolCsvResul
 		};
 	}
 	const seenT = new Map<number, number>();
+	const seenH = new Map<number, { row: number; t: number }>();
 	return {
 		ok: true,
 		rows: records.map((values, i) => {
@@ -114,6 +122,21 @@ export function parseToolCsv(text: string, existingT: Set<number>): ToolCsvResul
 					message: `T${d.t} is also on row ${earlier}.`
 				});
 			seenT.set(d.t, row);
+			const usedBy = existingH.get(d.h);
+			if (usedBy !== undefined)
+				errors.push({
+					column: 'h',
+					value: values.h,
+					message: `H${d.h} is already the length offset of T${usedBy} in this rack; two tools cannot share one H number.`
+				});
+			const earlierH = seenH.get(d.h);
+			if (earlierH)
+				errors.push({
+					column: 'h',
+					value: values.h,
+					message: `H${d.h} is also on row ${earlierH.row} (T${earlierH.t}); two tools cannot share one H number.`
+				});
+			else seenH.set(d.h, { row, t: d.t });
 			return {
 				row,
 				values,

@@ -1,5 +1,6 @@
 import type { Knex } from 'knex';
 import { audit } from '../audit';
+import { isUniqueViolation } from '../db/errors';
 import type { Actor, ServiceResult } from '../machines/service';
 import type { ParsedToolRow } from './csv';
 
@@ -21,6 +22,18 @@ export async function activeTNumbers(
 			await trx('tools').where({ machine_id: machineId }).whereNull('archived_at').pluck('t_number')
 		).map(Number)
 	);
+}
+
+/** H numbers of the rack's active tools → the T number using each (CSV import refuses a clash). */
+export async function activeHNumbers(
+	trx: Knex.Transaction,
+	machineId: number
+): Promise<Map<number, number>> {
+	const rows = await trx('tools')
+		.where({ machine_id: machineId })
+		.whereNull('archived_at')
+		.select('h_number', 't_number');
+	return new Map(rows.map((r) => [Number(r.h_number), Number(r.t_number)]));
 }
 
 const row = (machineId: number, t: NewTool) => ({
@@ -83,6 +96,9 @@ export async function archiveTool(
 	return { ok: true };
 }
 
+export const IMPORT_CONFLICT =
+	'Another import or edit added tools to this rack at the same moment, so nothing from this file was imported. Check the rack, then upload the file again.';
+
 /**
  * Imports checked CSV rows. `mode` is the user's explicit choice when some rows have errors:
  * 'valid' imports the rows without errors, 'all-or-nothing' imports only when every row is good.
@@ -95,7 +111,7 @@ export async function importTools(
 	mode: 'valid' | 'all-or-nothing',
 	by: Actor,
 	ip = ''
-): Promise<ServiceResult<{ imported: number }>> {
+): Promise<ServiceResult<{ imported: number }> | { ok: false; conflict: true; message: string }> {
 	const bad = rows.filter((r) => r.errors.length > 0);
 	if (mode === 'all-or-nothing' && bad.length > 0) {
 		return { ok: false, message: `${bad.length} row(s) have errors, so nothing was imported.` };
@@ -103,7 +119,14 @@ export async function importTools(
 	const good = rows.filter((r) => r.errors.length === 0 && r.tool).map((r) => r.tool!);
 	if (good.length === 0)
 		return { ok: false, message: 'No row is free of errors; nothing was imported.' };
-	await trx('tools').insert(good.map((t) => row(machineId, t)));
+	try {
+		// A savepoint: when a parallel import took these T pockets first (the unique index
+		// decides, after waiting for it to commit), this import writes nothing and says so.
+		await trx.transaction((sp) => sp('tools').insert(good.map((t) => row(machineId, t))));
+	} catch (e) {
+		if (!isUniqueViolation(e, 'tools_machine_t_active')) throw e;
+		return { ok: false, conflict: true, message: IMPORT_CONFLICT };
+	}
 	await audit(trx, {
 		actorUserId: by.id,
 		actorEmail: by.email,

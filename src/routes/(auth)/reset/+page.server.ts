@@ -25,7 +25,13 @@ export const actions: Actions = {
 			max: 10,
 			windowSeconds: 3600
 		});
-		if (limit.allowed) await requestPasswordReset(db(), form.data.email);
+		// Not awaited: the answer comes back at once whether or not the e-mail has an account, and
+		// whether or not the e-mail service is up (a real account must not be told apart by a
+		// slower answer or a 500). A failed send is logged; the person can simply ask again.
+		if (limit.allowed)
+			void requestPasswordReset(db(), form.data.email).catch((e: unknown) =>
+				console.error('password reset e-mail not sent:', (e as Error).message)
+			);
 		return message(form, SAME_ANSWER);
 	}
 };

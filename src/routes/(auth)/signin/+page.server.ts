@@ -2,7 +2,7 @@ import { fail, redirect } from '@sveltejs/kit';
 import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { signInSchema } from '$lib/schemas/auth';
-import { auditSignIn, checkCredentials, safeNext, startSession } from '$lib/server/auth/sign-in';
+import { retryMessage, safeNext, trySignIn } from '$lib/server/auth/sign-in';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ locals, url }) => {
@@ -14,29 +14,28 @@ export const load: PageServerLoad = async ({ locals, url }) => {
 			errors: false
 		}
 	);
-	return { form, reset: url.searchParams.has('reset') };
+	// Auth.js sends a refused direct POST to /auth/callback/credentials here with ?code=….
+	const code = url.searchParams.get('code');
+	const refused =
+		code === 'rate-limited'
+			? 'Too many failed sign-ins for this account from here. Wait a few minutes, then try again.'
+			: code === 'credentials'
+				? 'E-mail or password is not right.'
+				: null;
+	return { form, reset: url.searchParams.has('reset'), refused };
 };
 
 export const actions: Actions = {
+	/** The credentials are checked (limit, password, audit) only inside Auth.js's authorize. */
 	default: async (event) => {
 		const form = await superValidate(await event.request.formData(), zod4(signInSchema));
 		if (!form.valid) return fail(400, { form });
-		const outcome = await checkCredentials(event, form.data.email, form.data.password);
-		if (!outcome.ok && outcome.reason === 'rate-limited') {
-			const minutes = Math.ceil(outcome.retryAfterSeconds / 60);
-			return message(
-				form,
-				`Too many sign-in attempts. Try again in ${minutes} minute${minutes === 1 ? '' : 's'}.`,
-				{
-					status: 429
-				}
-			);
-		}
-		if (!outcome.ok) {
-			form.data.password = '';
-			return setError(form, 'password', 'E-mail or password is not right.', { status: 400 });
-		}
-		await auditSignIn(event, outcome.userId, form.data.email);
-		return startSession(event, form.data.email, form.data.password, form.data.next);
+		const outcome = await trySignIn(event, form.data.email, form.data.password, form.data.next);
+		form.data.password = '';
+		if (outcome.reason === 'rate-limited')
+			return message(form, retryMessage(outcome.retryAt, outcome.retryAfterSeconds), {
+				status: 429
+			});
+		return setError(form, 'password', 'E-mail or password is not right.', { status: 400 });
 	}
 };

@@ -1,5 +1,4 @@
-import { error } from '@sveltejs/kit';
-import { dev } from '$app/environment';
+import { error, redirect } from '@sveltejs/kit';
 import { config } from '$lib/server/config';
 import type { PageServerLoad } from './$types';
 
@@ -13,23 +12,36 @@ interface FakeMessage {
 	receivedAt: string;
 }
 
-/** Development-only: what the app sent through the fake SES. Off in production builds unless DATUMKEEP_DEV_MAILBOX=1. */
-export const load: PageServerLoad = async ({ fetch, url }) => {
-	if (!dev && process.env.DATUMKEEP_DEV_MAILBOX !== '1') error(404, 'Not found');
+/** The local fake SES, and only it: a loopback endpoint (never real SES, never elsewhere). */
+function fakeSesEndpoint(): string | undefined {
 	const endpoint = config.sesEndpoint;
+	if (!endpoint) return undefined;
+	const host = new URL(endpoint).hostname;
+	return ['127.0.0.1', 'localhost', '[::1]'].includes(host) ? endpoint : undefined;
+}
+
+/**
+ * The local demo's mailbox: what the app sent through the local fake SES (npm start, npm run
+ * dev, tests). It exists only while the app sends through the fake, needs sign-in, and shows
+ * the signed-in person only the mail addressed to them — invitation and reset links are keys.
+ */
+export const load: PageServerLoad = async ({ fetch, locals, url }) => {
+	const endpoint = fakeSesEndpoint();
 	if (!endpoint) error(404, 'Not found');
-	const to = url.searchParams.get('to') ?? '';
+	if (!locals.user) redirect(303, `/signin?next=${encodeURIComponent(url.pathname)}`);
+	const me = locals.user.email.toLowerCase();
 	try {
-		const res = await fetch(
-			`${endpoint}/_fake/messages${to ? `?to=${encodeURIComponent(to)}` : ''}`
-		);
+		const res = await fetch(`${endpoint}/_fake/messages?to=${encodeURIComponent(me)}`);
 		const body = await res.json();
-		const messages: FakeMessage[] = Array.isArray(body) ? body : (body.messages ?? []);
-		return { messages, to, problem: null };
+		const all: FakeMessage[] = Array.isArray(body) ? body : (body.messages ?? []);
+		// The fake's filter is a convenience; the decision is made here.
+		const bare = (a: string) => (/<([^>]+)>/.exec(a)?.[1] ?? a).trim().toLowerCase();
+		const messages = all.filter((m) => m.to.some((a) => bare(a) === me));
+		return { messages, to: me, problem: null };
 	} catch {
 		return {
 			messages: [] as FakeMessage[],
-			to,
+			to: me,
 			problem: `The fake SES at ${endpoint} is not answering. Is npm start running?`
 		};
 	}

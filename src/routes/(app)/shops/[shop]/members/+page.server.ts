@@ -62,10 +62,13 @@ export const actions: Actions = {
 		);
 		if (result.alreadyMember)
 			return setError(form, 'email', `${form.data.email} is already a member of this shop.`);
-		return message(
-			form,
-			`Invitation sent to ${form.data.email} as ${roleWithArticle(form.data.role)}.`
-		);
+		if (!result.mailed)
+			return message(
+				form,
+				`Invitation for ${form.data.email} saved, but the e-mail was not sent: the mail service did not answer. Use Resend in Pending invitations to send it.`,
+				{ status: 503 }
+			);
+		return message(form, `Invitation sent to ${form.data.email} as ${roleWithArticle(form.data.role)}.`);
 	},
 	changeRole: async (event) => {
 		const me = await requireMember(event, 'members.manage');
@@ -108,6 +111,12 @@ export const actions: Actions = {
 			user,
 			clientAddress(event)
 		);
+		if (ok === 'not-mailed')
+			return rowResult(
+				false,
+				'The e-mail was not sent: the mail service did not answer. The invitation is kept; try Resend again later.',
+				503
+			);
 		return ok
 			? rowResult(true, 'Invitation sent again with a new link.')
 			: rowResult(false, 'That invitation is no longer pending.', 404);

@@ -10,7 +10,13 @@ import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
 import { machineOverview } from '$lib/server/offsets/overview';
 import { parseToolCsv, TOOL_CSV_MAX_BYTES } from '$lib/server/tools/csv';
-import { activeTNumbers, addTool, archiveTool, importTools } from '$lib/server/tools/service';
+import {
+	activeHNumbers,
+	activeTNumbers,
+	addTool,
+	archiveTool,
+	importTools
+} from '$lib/server/tools/service';
 import type { Actions, PageServerLoad } from './$types';
 
 const importChoiceSchema = z.object({
@@ -85,7 +91,11 @@ export const actions: Actions = {
 		const text = await file.text();
 		return withShop(shop, async (trx) => {
 			const machine = await machineFromParam(trx, event.params.machine);
-			const parsed = parseToolCsv(text, await activeTNumbers(trx, machine.id));
+			const parsed = parseToolCsv(
+				text,
+				await activeTNumbers(trx, machine.id),
+				await activeHNumbers(trx, machine.id)
+			);
 			if (!parsed.ok) return fail(400, { importError: parsed.message });
 			return { preview: { fileName: file.name, csvText: text, rows: parsed.rows } };
 		});
@@ -97,7 +107,11 @@ export const actions: Actions = {
 		return withShop(shop, async (trx) => {
 			const machine = await machineFromParam(trx, event.params.machine);
 			// Re-check against the rack as it is now: someone may have added a tool since the preview.
-			const parsed = parseToolCsv(choice.data.csvText, await activeTNumbers(trx, machine.id));
+			const parsed = parseToolCsv(
+				choice.data.csvText,
+				await activeTNumbers(trx, machine.id),
+				await activeHNumbers(trx, machine.id)
+			);
 			if (!parsed.ok) return fail(400, { importError: parsed.message });
 			const r = await importTools(
 				trx,
@@ -107,6 +121,8 @@ export const actions: Actions = {
 				user,
 				clientAddress(event)
 			);
+			// A parallel import of the same tools: 409 with what happened, not a bare 500.
+			if (!r.ok && 'conflict' in r) return fail(409, { importError: r.message });
 			if (!r.ok)
 				return fail(400, {
 					importError: r.message,

@@ -5,6 +5,7 @@ import { machineFromParam } from '$lib/server/machines/load';
 import { recentReadings, registerFromParam, registerHistory } from '$lib/server/readings/history';
 import { queuedReadingPost } from '$lib/server/readings/queued-post';
 import type { RequestHandler } from './$types';
+import { numberTextMessage, readNumberText } from '$lib/offsets/number-text';
 
 /**
  * A machine's recent readings, newest first (`?limit=`, default 20, at most 200), or with
@@ -16,9 +17,12 @@ export const GET: RequestHandler = async (event) => {
 	const kind = q.get('kind');
 	const registerParam = q.get('register');
 	const limitParam = q.get('limit');
-	const limit = limitParam === null ? 20 : Number(limitParam);
-	if (!Number.isInteger(limit) || limit < 1 || limit > 200)
-		error(400, 'limit must be a whole number from 1 to 200.');
+	// Query numbers go through the same strict reader as forms ("20abc" is not 20).
+	const read = limitParam === null ? null : readNumberText(limitParam, { whole: true });
+	if (read && !read.ok)
+		error(400, numberTextMessage('limit', limitParam, read.reason, { whole: true }));
+	const limit = read?.ok ? read.value : 20;
+	if (limit < 1 || limit > 200) error(400, 'limit must be a whole number from 1 to 200.');
 	if ((kind === null) !== (registerParam === null))
 		error(400, 'Give both kind (tool or work) and register, or neither.');
 	const body = await withShop(shop, async (trx) => {
