@@ -6,7 +6,9 @@
  * Figures go to the console and to bench/out/results.json; docs/PERFORMANCE.md explains them.
  * Options: BENCH_RUNS (default 3; the median is reported), BENCH_SKIP_GENERATE=1.
  * Then the fleet board API under load (bench/fleet.ts, its own process). `npm run bench -- fleet`
- * runs only that one, `npm run bench -- program` only the program check.
+ * runs only that one, `npm run bench -- program` only the program check. `npm run bench -- scale`
+ * runs only the scale bench (bench/scale.ts: 10 → 100 → 1,000 shops behind `npm run cluster`).
+ * scripts/bench.sh starts PostgreSQL and Redis first, as `npm test` does.
  */
 import { execFileSync } from 'node:child_process';
 import { existsSync, mkdirSync, statSync, writeFileSync } from 'node:fs';
@@ -130,9 +132,14 @@ async function main(): Promise<void> {
 }
 
 const only = process.argv[2];
-if (only && only !== 'fleet' && only !== 'program') {
-	console.error(`npm run bench [-- fleet | program]; got "${only}"`);
+if (only && only !== 'fleet' && only !== 'program' && only !== 'scale') {
+	console.error(`npm run bench [-- fleet | program | scale]; got "${only}"`);
 	process.exit(1);
+}
+// The scale bench (bench/scale.ts) runs only when asked for: it takes many minutes.
+if (only === 'scale') {
+	execFileSync(process.execPath, ['--import', 'tsx', join(here, 'scale.ts')], { stdio: 'inherit' });
+	process.exit(0);
 }
 (only === 'fleet' ? Promise.resolve() : main())
 	.then(() => {
