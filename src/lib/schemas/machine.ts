@@ -33,15 +33,12 @@ const machineShape = {
 	}),
 	controlStyle: controlStyleSchema.default('iso'),
 	/** How many extended work offsets the control has (G54.1 P1…Pn, or G54 P1…Pn). */
-	extendedWorkOffsets: z.coerce
-		.number({ message: 'Extended work offsets must be a whole number.' })
-		.int('Extended work offsets must be a whole number.')
-		.min(0, 'Extended work offsets cannot be negative.')
-		.max(
-			MAX_EXTENDED_REGISTER,
-			`Datumkeep keeps up to ${MAX_EXTENDED_REGISTER} extended work offsets.`
-		)
-		.default(0),
+	extendedWorkOffsets: numberField('Extended work offsets', {
+		whole: true,
+		min: 0,
+		max: MAX_EXTENDED_REGISTER,
+		rangeMessage: `Extended work offsets must be a whole number from 0 to ${MAX_EXTENDED_REGISTER} (Datumkeep keeps up to ${MAX_EXTENDED_REGISTER}).`
+	}).default(0),
 	extendedAddress: z.enum(EXTENDED_ADDRESS_FORMS).default('G54.1 P'),
 	convention: conventionSchema.default('reference-touch'),
 	notes: z.string().trim().max(2000, 'Notes too long (2000 characters at most).').default('')

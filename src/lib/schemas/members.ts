@@ -30,6 +30,6 @@ export const confirmRemoveSchema = removeMemberSchema.extend({
 
 /** Handing over ownership: to whom, confirmed with the owner's own password. */
 export const transferOwnershipSchema = z.object({
-	membershipId: z.coerce.number().int().positive('Choose the member who becomes the owner.'),
+	membershipId: idField('Member', 'Choose the member who becomes the owner.'),
 	password: z.string().min(1, 'Enter your password to confirm.')
 });

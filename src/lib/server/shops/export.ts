@@ -249,45 +249,50 @@ async function writeArchive(
 		],
 		tables: []
 	};
-	await withShop(shop, async (trx) => {
-		await trx.raw('set transaction isolation level repeatable read, read only');
-		const tables: string[] = (
-			await trx.raw(
-				`select table_name from information_schema.tables
-				where table_schema = ? and table_type = 'BASE TABLE' order by table_name`,
-				[shop.schemaName]
-			)
-		).rows
-			.map((r: { table_name: string }) => r.table_name)
-			.filter((t: string) => !SKIPPED.has(t));
-		for (const [i, table] of tables.entries()) {
-			const columns: string[] = (
+	// Every file from one snapshot: repeatable read, read only, set as the transaction begins.
+	await withShop(
+		shop,
+		async (trx) => {
+			const tables: string[] = (
 				await trx.raw(
-					`select column_name from information_schema.columns
-					where table_schema = ? and table_name = ? order by ordinal_position`,
-					[shop.schemaName, table]
+					`select table_name from information_schema.tables
+				where table_schema = ? and table_type = 'BASE TABLE' order by table_name`,
+					[shop.schemaName]
 				)
-			).rows.map((r: { column_name: string }) => r.column_name);
-			const parts: string[] = [stringify([columns])];
-			let rows = 0;
-			await trx.raw(`declare export_rows no scroll cursor for select * from ??`, [table]);
-			for (;;) {
-				const batch = (await trx.raw(`fetch ${BATCH} from export_rows`)).rows as Record<
-					string,
-					unknown
-				>[];
-				if (batch.length === 0) break;
-				rows += batch.length;
-				parts.push(stringify(batch.map((r) => columns.map((c) => cell(r[c])))));
+			).rows
+				.map((r: { table_name: string }) => r.table_name)
+				.filter((t: string) => !SKIPPED.has(t));
+			for (const [i, table] of tables.entries()) {
+				const columns: string[] = (
+					await trx.raw(
+						`select column_name from information_schema.columns
+					where table_schema = ? and table_name = ? order by ordinal_position`,
+						[shop.schemaName, table]
+					)
+				).rows.map((r: { column_name: string }) => r.column_name);
+				const parts: string[] = [stringify([columns])];
+				let rows = 0;
+				await trx.raw(`declare export_rows no scroll cursor for select * from ??`, [table]);
+				for (;;) {
+					const batch = (await trx.raw(`fetch ${BATCH} from export_rows`)).rows as Record<
+						string,
+						unknown
+					>[];
+					if (batch.length === 0) break;
+					rows += batch.length;
+					parts.push(stringify(batch.map((r) => columns.map((c) => cell(r[c])))));
+				}
+				await trx.raw('close export_rows');
+				zip.append(parts.join(''), { name: `${table}.csv` });
+				manifest.tables.push({ table, file: `${table}.csv`, columns, rows });
+				const pct = Math.floor(((i + 1) / tables.length) * 95);
+				await knex('public.shop_exports').where({ id: exportId }).update({ progress: pct });
+				await onProgress(pct);
 			}
-			await trx.raw('close export_rows');
-			zip.append(parts.join(''), { name: `${table}.csv` });
-			manifest.tables.push({ table, file: `${table}.csv`, columns, rows });
-			const pct = Math.floor(((i + 1) / tables.length) * 95);
-			await knex('public.shop_exports').where({ id: exportId }).update({ progress: pct });
-			await onProgress(pct);
-		}
-	});
+		},
+		undefined,
+		{ isolationLevel: 'repeatable read', readOnly: true }
+	);
 	zip.append(JSON.stringify(manifest, null, 2), { name: 'manifest.json' });
 	await zip.finalize();
 	await closed;
