@@ -44,13 +44,19 @@ node_port() { echo $((BASE + 10 + $1)); }
 DIR="${CLUSTER_DIR:-$(data_dir)/cluster-$BASE}"
 LB_URL="http://127.0.0.1:$LB_PORT"
 
-DIRECT_URL="${CLUSTER_DIRECT_URL:-$DATABASE_URL}"
+# The app and workers log in as the least-privilege app role (docs/SECURITY.md), through PgBouncer
+# for queries and directly for the feed's LISTEN; DATABASE_URL (the superuser locally) migrates.
+# (Made from this DATABASE_URL, not an inherited DATABASE_APP_URL that may name another database.)
+APP_URL="$(printf '%s' "$DATABASE_URL" | sed -E 's#^([a-z]+://)([^@/]*@)?#\1datumkeep_app@#')"
+DIRECT_URL="${CLUSTER_DIRECT_URL:-$APP_URL}"
+APP_USER="$(printf '%s' "$APP_URL" | sed -E 's#^[a-z]+://(([^:@/]*)(:[^@/]*)?@)?.*#\2#')"
 DB_NAME="${DATABASE_URL##*/}"
 DB_USERINFO="$(printf '%s' "$DATABASE_URL" | sed -E 's#^[a-z]+://(([^@/]*)@)?.*#\2#')"
 DB_USER="${DB_USERINFO%%:*}"; DB_USER="${DB_USER:-postgres}"
 DB_PASSWORD=""; case "$DB_USERINFO" in *:*) DB_PASSWORD="${DB_USERINFO#*:}" ;; esac
 # The same URL with PgBouncer's address in place of PostgreSQL's.
 POOLED_URL="$(printf '%s' "$DATABASE_URL" | sed -E "s#^([a-z]+://([^@/]*@)?)[^/]*(/.*)\$#\\1127.0.0.1:$PGB_PORT\\3#")"
+POOLED_APP_URL="$(printf '%s' "$APP_URL" | sed -E "s#^([a-z]+://([^@/]*@)?)[^/]*(/.*)\$#\\1127.0.0.1:$PGB_PORT\\3#")"
 
 need_debian 'haproxy:/usr/sbin/haproxy' 'pgbouncer:/usr/sbin/pgbouncer'
 need_node_modules
@@ -60,6 +66,7 @@ done
 
 bash scripts/services.sh up
 npx tsx scripts/create-db.ts
+npx tsx scripts/db-roles.ts
 npx tsx scripts/migrate.ts
 npx tsx scripts/seed.ts
 
@@ -107,7 +114,10 @@ max_client_conn = 1000
 ignore_startup_parameters = extra_float_digits
 logfile = $DIR/pgbouncer.log
 EOF
-printf '"%s" "%s"\n' "$DB_USER" "$DB_PASSWORD" > "$DIR/userlist.txt"
+{
+	printf '"%s" "%s"\n' "$DB_USER" "$DB_PASSWORD"
+	if [ -n "$APP_USER" ] && [ "$APP_USER" != "$DB_USER" ]; then printf '"%s" ""\n' "$APP_USER"; fi
+} > "$DIR/userlist.txt"
 chmod 600 "$DIR/userlist.txt"
 if [ "$(id -u)" = 0 ] && id postgres >/dev/null 2>&1; then
 	chown -R postgres "$DIR"
@@ -126,7 +136,7 @@ else
 fi
 
 # Every app process: the pooled URL for queries, the direct one for the change feed.
-export DATABASE_URL="$POOLED_URL" DATABASE_DIRECT_URL="$DIRECT_URL"
+export DATABASE_URL="$POOLED_URL" DATABASE_APP_URL="$POOLED_APP_URL" DATABASE_DIRECT_URL="$DIRECT_URL"
 for i in $(seq "$WORKERS"); do
 	# shellcheck disable=SC2086
 	# `node --import tsx` rather than the tsx CLI: one process per worker, so its pid is the worker.

@@ -351,8 +351,16 @@ test('deleting the shop: typed confirmation, read-only grace, restore, then the 
 		'shop.deletion-requested',
 		'shop.purged'
 	]);
-	await page.goto(`/shops/${slug}`);
-	await expect(page).toHaveURL(new RegExp(`/access-ended/${slug}$`));
+	// Each app process forgets the membership when the change feed tells it (a moment later).
+	await expect
+		.poll(
+			async () => {
+				await page.goto(`/shops/${slug}`);
+				return new URL(page.url()).pathname;
+			},
+			{ timeout: 15_000 }
+		)
+		.toBe(`/access-ended/${slug}`);
 	await expect(page.getByTestId('access-ended')).toContainText('deleted');
 	await expect
 		.poll(async () => (await mailsTo(email)).map((m) => m.subject).join('|'))

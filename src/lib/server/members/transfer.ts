@@ -5,6 +5,7 @@
  */
 import type { Knex } from 'knex';
 import { audit } from '../audit';
+import { enterShop } from '../db/roles';
 import { verifyPassword } from '../auth/password';
 import { config } from '../config';
 import { renderEmail } from '../email/layout';
@@ -67,7 +68,7 @@ export async function transferOwnership(
 			actorEmail: from.email,
 			detail: { toUserId: Number(target.user_id), to: target.email, previousRole: target.role }
 		});
-		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+		await enterShop(trx, shop.schemaName);
 		await audit(trx, {
 			actorUserId: from.id,
 			actorEmail: from.email,

@@ -21,6 +21,7 @@ import { getShopBilling } from '../billing/state';
 import { stripe } from '../billing/stripe';
 import { config } from '../config';
 import { assertShopSchema } from '../db/schema-name';
+import { enterShop } from '../db/roles';
 import type { ShopRef } from '../db/tenant';
 import { renderEmail } from '../email/layout';
 import { sendEmail } from '../email/send';
@@ -104,7 +105,7 @@ export async function requestDeletion(
 			actorEmail: by.email,
 			detail: { purgeAfter: purgeAfter.toISOString(), subscriptionCancelled: cancelled !== null }
 		});
-		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+		await enterShop(trx, shop.schemaName);
 		await audit(trx, {
 			actorUserId: by.id,
 			actorEmail: by.email,
@@ -158,7 +159,7 @@ export async function restoreShop(
 			actorUserId: by.id,
 			actorEmail: by.email
 		});
-		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+		await enterShop(trx, shop.schemaName);
 		await audit(trx, {
 			actorUserId: by.id,
 			actorEmail: by.email,
@@ -199,7 +200,8 @@ export async function purgeShop(
 			.join('public.users as u', 'u.id', 'm.user_id')
 			.where('m.shop_id', shopId)
 			.select('u.id', 'u.email', 'u.name', 'm.role');
-		await trx.raw('drop schema if exists ?? cascade', [shop.schema_name]);
+		// The schema belongs to the owner role: a definer function drops it, only for a shop due.
+		await trx.raw('select public.dk_drop_shop_schema(?)', [shop.schema_name]);
 		await trx('public.memberships').where({ shop_id: shopId }).del();
 		await trx('public.invitations').where({ shop_id: shopId }).del();
 		// No schema name: the shop is gone for every part that lists shops (e.g. nightly checks).

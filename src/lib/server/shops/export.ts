@@ -12,6 +12,7 @@ import { ZipArchive } from 'archiver';
 import { stringify } from 'csv-stringify/sync';
 import type { Knex } from 'knex';
 import { audit } from '../audit';
+import { enterShop } from '../db/roles';
 import { hashToken, newToken } from '../auth/tokens';
 import { config } from '../config';
 import { assertShopSchema } from '../db/schema-name';
@@ -82,7 +83,7 @@ export async function requestExport(
 			actorEmail: by.email,
 			detail: { exportId: Number(row.id) }
 		});
-		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+		await enterShop(trx, shop.schemaName);
 		await audit(trx, {
 			actorUserId: by.id,
 			actorEmail: by.email,

@@ -7,6 +7,7 @@ import type { Knex } from 'knex';
 import type { PolicyInput, Units } from '$lib/offsets';
 import type { ShopSettingsInput } from '$lib/schemas/settings';
 import { audit } from '../audit';
+import { enterShop } from '../db/roles';
 import type { ShopRef } from '../db/tenant';
 
 export interface ShopSettings {
@@ -110,7 +111,7 @@ export async function saveSettings(
 				check_hour: after.checkHour,
 				check_policy: JSON.stringify(policy)
 			});
-		await trx.raw('set local search_path to ??, public', [shop.schemaName]);
+		await enterShop(trx, shop.schemaName);
 		for (const field of changed) {
 			await audit(trx, {
 				actorUserId: by.id,
