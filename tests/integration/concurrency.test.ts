@@ -15,6 +15,7 @@ import {
 	importTools
 } from '$lib/server/tools/service';
 import { testDb, uniqueSuffix } from './db';
+import { setEnv } from './env';
 import { insertTwoFixtureMill } from './two-fixture-mill';
 
 /** Issue 13: limits hold under parallel requests (each on its own connection, as in the app). */
@@ -28,7 +29,7 @@ const inShop = <T>(fn: (trx: Knex.Transaction) => Promise<T>) => withShop(shop, 
 
 beforeAll(async () => {
 	uploads = await mkdtemp(join(tmpdir(), 'dk-concurrency-'));
-	process.env.UPLOADS_DIR = uploads;
+	setEnv('UPLOADS_DIR', uploads);
 	const email = `conc-${uniqueSuffix()}@example.test`;
 	const created = await createShopWithOwner(
 		knex,

@@ -18,6 +18,7 @@ import { createShopWithOwner } from '$lib/server/shops/create';
 import { getSetupDetail } from '$lib/server/setups/queries';
 import { createSetup, type Actor } from '$lib/server/setups/write';
 import { testDb, uniqueSuffix } from './db';
+import { setEnv } from './env';
 import { insertTwoFixtureMill } from './two-fixture-mill';
 
 const knex: Knex = testDb();
@@ -35,7 +36,7 @@ const inShop = <T>(fn: (trx: Knex.Transaction) => Promise<T>) => withShop(shop, 
  */
 beforeAll(async () => {
 	uploads = await mkdtemp(join(tmpdir(), 'dk-programs-'));
-	process.env.UPLOADS_DIR = uploads;
+	setEnv('UPLOADS_DIR', uploads);
 	const email = `programs-${uniqueSuffix()}@example.test`;
 	const created = await createShopWithOwner(
 		knex,

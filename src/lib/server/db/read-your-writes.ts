@@ -1,3 +1,4 @@
+import { config } from '../config';
 import type { ChangeFeed } from './change-feed';
 
 /**
@@ -21,10 +22,7 @@ export const WROTE_COOKIE = 'dk_wrote';
 /** How long the cookie matters: a feed that is this far behind is caught by its heartbeat. */
 export const WROTE_TTL_S = 30;
 
-const clockSkewMs = () => {
-	const v = Number(process.env.CLOCK_SKEW_MS);
-	return Number.isFinite(v) && v >= 0 ? v : 100;
-};
+const clockSkewMs = () => config.clockSkewMs;
 
 /** The Set-Cookie value for a write answered at `at` (ms since the epoch). */
 export function wroteCookie(at: number, secure: boolean): string {

@@ -1,6 +1,7 @@
 import { Queue, type JobsOptions } from 'bullmq';
 import type { Knex } from 'knex';
 import type { Redis } from 'ioredis';
+import { config } from '../config';
 import { producerConnection, QUEUE_PREFIX } from './connection';
 
 /**
@@ -21,9 +22,7 @@ export interface ShopCheckData {
 export type ShopCheckName = 'nightly' | 'first-check' | 'check-now' | 'sync-schedules';
 
 /** Retries with exponential backoff; finished jobs are removed after a while (BullMQ guidance). */
-export function jobOptions(
-	backoffMs = Number(process.env.SHOP_CHECKS_BACKOFF_MS ?? 30_000)
-): JobsOptions {
+export function jobOptions(backoffMs = config.shopChecks.backoffMs): JobsOptions {
 	return {
 		attempts: 6,
 		backoff: { type: 'exponential', delay: backoffMs },

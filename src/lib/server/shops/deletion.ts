@@ -31,10 +31,8 @@ export const DELETION_GRACE_DAYS = 14;
 
 /** The grace period in ms: 14 days, unless SHOP_DELETION_GRACE_SECONDS says otherwise (tests). */
 export function deletionGraceMs(): number {
-	const s = process.env.SHOP_DELETION_GRACE_SECONDS;
-	if (s !== undefined && s !== '' && Number.isFinite(Number(s)) && Number(s) >= 0) {
-		return Number(s) * 1000;
-	}
+	const s = config.shopDeletionGraceSeconds;
+	if (s !== undefined) return s * 1000;
 	return DELETION_GRACE_DAYS * 86_400_000;
 }
 
