@@ -11,7 +11,7 @@ import type { CheckInput } from '$lib/server/programs/input';
 import { versionResult } from '$lib/server/programs/load';
 import { buildReport } from '$lib/server/programs/report';
 import { recheckVersion } from '$lib/server/programs/recheck';
-import { processProgramCheck } from '$lib/server/programs/run';
+import { processProgramCheck } from '../../workers/program-check/processor';
 import { summarize } from '$lib/server/programs/summary';
 import { getVersionFile, listPrograms } from '$lib/server/programs/queries';
 import { uploadProgram } from '$lib/server/programs/store';

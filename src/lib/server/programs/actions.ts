@@ -4,7 +4,7 @@ import { requireMember } from '../guard';
 import { setupFromParam } from '../setups/load';
 import { getProgram } from './queries';
 import { uploadProgram } from './store';
-import { enqueueProgramCheck } from './queue';
+import { enqueueProgramCheck } from '../queues/program-check';
 import { recheckVersion } from './recheck';
 import { runQueuedCheck } from './run';
 

@@ -25,7 +25,7 @@ import type { ShopRef } from '../db/tenant';
 import { renderEmail } from '../email/layout';
 import { sendEmail } from '../email/send';
 import { logLifecycle } from './lifecycle';
-import { enqueueLifecycle } from './lifecycle-queue';
+import { enqueueLifecycle } from '../queues/shop-lifecycle';
 
 export const DELETION_GRACE_DAYS = 14;
 

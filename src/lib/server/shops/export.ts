@@ -19,7 +19,7 @@ import { withShop, type ShopRef } from '../db/tenant';
 import { renderEmail } from '../email/layout';
 import { sendEmail } from '../email/send';
 import { logLifecycle } from './lifecycle';
-import { enqueueLifecycle } from './lifecycle-queue';
+import { enqueueLifecycle } from '../queues/shop-lifecycle';
 
 export const EXPORT_LINK_DAYS = 7;
 const BATCH = 2_000;
