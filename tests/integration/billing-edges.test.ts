@@ -13,7 +13,7 @@ import { testDb, uniqueSuffix } from './db';
 import { setEnv } from './env';
 
 /**
- * Billing edges (issue 18) through the app's own code and the project's fake Stripe, started
+ * Billing edges (paying during the trial, a downgrade below the machines in use) through the app's own code and the project's fake Stripe, started
  * here on a free port: the SDK talks to it, its pages are posted as a browser would, and the
  * events it produces are signed and handed to the same webhook entry point the route uses.
  */

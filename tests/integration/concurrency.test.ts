@@ -18,7 +18,7 @@ import { testDb, uniqueSuffix } from './db';
 import { setEnv } from './env';
 import { insertTwoFixtureMill } from './two-fixture-mill';
 
-/** Issue 13: limits hold under parallel requests (each on its own connection, as in the app). */
+/** Limits (photos per setup, one import of a tool list) hold under parallel requests (each on its own connection, as in the app). */
 const knex: Knex = testDb();
 let uploads: string;
 let shop: { id: number; schemaName: string; slug: string };

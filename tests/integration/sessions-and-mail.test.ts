@@ -10,7 +10,7 @@ import { setEnv } from './env';
 import { linkIn, mailsTo } from './mail';
 
 /**
- * Issue 13: what ends a person's sessions (the session generation every cookie must match,
+ * What ends a person's sessions (the session generation every cookie must match,
  * checked in hooks.server.ts; tests/e2e/security.spec.ts shows an old cookie refused), and an
  * invitation made while the mail service is down.
  */

@@ -2,7 +2,7 @@ import { config } from '../config';
 import type { ChangeFeed } from './change-feed';
 
 /**
- * Read your own writes across app nodes (issue 19). Each node's caches hear a change when its
+ * Read your own writes across app nodes. Each node's caches hear a change when its
  * PostgreSQL notification arrives — normally within milliseconds, but a node whose feed is
  * behind could answer a user's next request from a cache that predates their own write.
  *

@@ -5,7 +5,7 @@ import { config } from '../config';
 import { producerConnection, QUEUE_PREFIX } from './connection';
 
 /**
- * The `shop-checks` queue (issue 7): one nightly job scheduler per shop at the shop's own hour
+ * The `shop-checks` queue: one nightly job scheduler per shop at the shop's own hour
  * in its own time zone, plus "Check now" jobs. Job data is the shop id only (never secrets,
  * never anything the worker should trust over the database). The app produces; the worker
  * (workers/shop-checks) consumes and keeps the schedulers in step with public.shops.

@@ -1,5 +1,5 @@
 /**
- * Deleting a shop (issue 18), in two steps:
+ * Deleting a shop, in two steps:
  *
  * 1. The owner asks, typing the shop's address to confirm. A running subscription is cancelled
  *    at Stripe first (if that fails, nothing changes). The shop becomes read-only for everyone

@@ -1,5 +1,5 @@
 /**
- * "Export everything" (issue 18): the owner asks, the `shop-lifecycle` worker writes one zip
+ * "Export everything": the owner asks, the `shop-lifecycle` worker writes one zip
  * archive with a CSV file per table of the shop's schema (every table, so nothing new is ever
  * left out) and a `manifest.json` naming each file, its columns and its row count. All tables
  * are read in one repeatable-read snapshot, so the counts in the manifest are the rows in the
