@@ -10,7 +10,7 @@ import { randomUUID } from 'node:crypto';
 import { appendFileSync, existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
 import { dirname } from 'node:path';
-import { closeServer, listen, readBody, sendJson } from './lib/http';
+import { closeServer, escapeHtml, listen, readBody, sendJson } from './lib/http';
 import {
 	bareAddress,
 	isValidAddress,
@@ -315,14 +315,6 @@ function loadStore(file: string): FakeSesMessage[] {
 	return out;
 }
 
-function xmlEscape(text: string): string {
-	return text
-		.replace(/&/g, '&amp;')
-		.replace(/</g, '&lt;')
-		.replace(/>/g, '&gt;')
-		.replace(/"/g, '&quot;');
-}
-
 function sendXml(res: ServerResponse, status: number, xml: string): void {
 	res.writeHead(status, {
 		'content-type': 'text/xml',
@@ -339,6 +331,6 @@ function sendXmlError(res: ServerResponse, err: SesError): void {
 	sendXml(
 		res,
 		err.status,
-		`<ErrorResponse xmlns="${XMLNS}"><Error><Type>${type}</Type><Code>${xmlEscape(err.code)}</Code><Message>${xmlEscape(err.message)}</Message></Error><RequestId>${requestId}</RequestId></ErrorResponse>`
+		`<ErrorResponse xmlns="${XMLNS}"><Error><Type>${type}</Type><Code>${escapeHtml(err.code)}</Code><Message>${escapeHtml(err.message)}</Message></Error><RequestId>${requestId}</RequestId></ErrorResponse>`
 	);
 }

@@ -2,6 +2,7 @@ import { SvelteKitAuth, CredentialsSignin } from '@auth/sveltekit';
 import Credentials from '@auth/sveltekit/providers/credentials';
 import type { RequestEvent } from '@sveltejs/kit';
 import { authenticate } from '$lib/server/auth/sign-in';
+import { config } from '$lib/server/config';
 
 /** Auth.js's answer to a refused sign-in; `code` reaches /signin?error=…&code=… for scripts too. */
 class SignInRefused extends CredentialsSignin {
@@ -21,8 +22,8 @@ class SignInRefused extends CredentialsSignin {
  */
 export const { handle, signIn, signOut } = SvelteKitAuth(async (event: RequestEvent) => ({
 	trustHost: true,
-	secret: process.env.AUTH_SECRET,
-	useSecureCookies: (process.env.ORIGIN ?? '').startsWith('https://') || undefined,
+	secret: config.authSecret,
+	useSecureCookies: config.origin.startsWith('https://') || undefined,
 	session: { strategy: 'jwt', maxAge: 12 * 60 * 60 },
 	pages: { signIn: '/signin', error: '/signin' },
 	providers: [

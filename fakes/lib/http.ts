@@ -4,6 +4,8 @@
  */
 import type { IncomingMessage, Server, ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
+// The app's own helper (no imports of its own, so plain tsx runs it here too).
+export { escapeHtml } from '../../src/lib/html';
 
 /** Largest request body a fake accepts; far above anything the SDKs send, low enough to stop a runaway client. */
 const MAX_BODY_BYTES = 5 * 1024 * 1024;
@@ -63,16 +65,6 @@ export function sendHtml(res: ServerResponse, status: number, html: string): voi
 export function redirect(res: ServerResponse, location: string): void {
 	res.writeHead(303, { location, 'content-length': 0 });
 	res.end();
-}
-
-/** Escapes text for HTML element content and double-quoted attributes. */
-export function escapeHtml(text: string): string {
-	return text
-		.replace(/&/g, '&amp;')
-		.replace(/</g, '&lt;')
-		.replace(/>/g, '&gt;')
-		.replace(/"/g, '&quot;')
-		.replace(/'/g, '&#39;');
 }
 
 /**

@@ -10,9 +10,10 @@ import { handleStripeWebhook } from '$lib/server/billing/webhook';
 import { withShop } from '$lib/server/db/tenant';
 import { createShopWithOwner } from '$lib/server/shops/create';
 import { testDb, uniqueSuffix } from './db';
+import { setEnv } from './env';
 
 /**
- * Billing edges (issue 18) through the app's own code and the project's fake Stripe, started
+ * Billing edges (paying during the trial, a downgrade below the machines in use) through the app's own code and the project's fake Stripe, started
  * here on a free port: the SDK talks to it, its pages are posted as a browser would, and the
  * events it produces are signed and handed to the same webhook entry point the route uses.
  */
@@ -23,10 +24,10 @@ let fake: FakeStripe;
 beforeAll(async () => {
 	fake = await startFakeStripe({ port: 0 });
 	// This file's own fake: the SDK client is made on first use, after these are set.
-	process.env.STRIPE_API_HOST = '127.0.0.1';
-	process.env.STRIPE_API_PORT = String(fake.port);
-	process.env.STRIPE_API_PROTOCOL = 'http';
-	process.env.STRIPE_SECRET_KEY ||= 'sk_test_local_fake';
+	setEnv('STRIPE_API_HOST', '127.0.0.1');
+	setEnv('STRIPE_API_PORT', String(fake.port));
+	setEnv('STRIPE_API_PROTOCOL', 'http');
+	setEnv('STRIPE_SECRET_KEY', process.env.STRIPE_SECRET_KEY || 'sk_test_local_fake');
 });
 afterAll(async () => {
 	await fake?.close();

@@ -5,6 +5,7 @@ import { Redis } from 'ioredis';
 import type { Knex } from 'knex';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { config } from '$lib/server/config';
+import { setEnv } from './env';
 import { closeDb } from '$lib/server/db';
 import { withShop } from '$lib/server/db/tenant';
 import { fleetBoard } from '$lib/server/fleet/board';
@@ -26,7 +27,7 @@ import { processShopCheck } from '../../workers/shop-checks/processor';
 import { testDb, uniqueSuffix } from './db';
 
 /**
- * Issue 7's faults, for real: Redis goes away (a TCP proxy in front of the shared Redis is
+ * The background checks' faults, for real: Redis goes away (a TCP proxy in front of the shared Redis is
  * closed — the shared server itself is never stopped) and the fake SES is down (nothing
  * listens on its port until the test starts it). Also the first check of a never-checked shop,
  * which stands in for that day's nightly run so a new shop's lead gets a digest at once.
@@ -194,7 +195,7 @@ describe('Redis down (a proxy in front of the real Redis, closed and reopened)',
 		await proxy.up();
 		// The app's own producer (appQueue, used by the page action) is made lazily from
 		// REDIS_URL: point it at the proxy before anything uses it.
-		process.env.REDIS_URL = proxy.url;
+		setEnv('REDIS_URL', proxy.url);
 		const connection = producerConnection({}, proxy.url);
 		connection.on('error', () => {});
 		queue = shopChecksQueue(connection);
@@ -210,7 +211,7 @@ describe('Redis down (a proxy in front of the real Redis, closed and reopened)',
 		await worker.waitUntilReady();
 	});
 	afterAll(async () => {
-		process.env.REDIS_URL = realRedisUrl;
+		setEnv('REDIS_URL', realRedisUrl);
 		await proxy.up();
 		await worker.close();
 		await queue.close();
@@ -295,7 +296,7 @@ describe('SES down (the fake SES starts only after the job has failed)', () => {
 		const members = await addMembers(s, 's');
 		const port = await freePort();
 		const endpointBefore = process.env.SES_ENDPOINT;
-		process.env.SES_ENDPOINT = `http://127.0.0.1:${port}`;
+		setEnv('SES_ENDPOINT', `http://127.0.0.1:${port}`);
 		const queue = shopChecksQueue(workerConnection());
 		const worker = new Worker<ShopCheckData, unknown, string>(
 			SHOP_CHECKS,
@@ -343,8 +344,7 @@ describe('SES down (the fake SES starts only after the job has failed)', () => {
 			await until('the second job', async () => ((await again.isCompleted()) ? true : undefined));
 			expect(fake.messages()).toHaveLength(2);
 		} finally {
-			if (endpointBefore === undefined) delete process.env.SES_ENDPOINT;
-			else process.env.SES_ENDPOINT = endpointBefore;
+			setEnv('SES_ENDPOINT', endpointBefore);
 			await worker.close();
 			await queue.close();
 			await fake?.close();

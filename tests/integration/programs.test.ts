@@ -11,13 +11,16 @@ import type { CheckInput } from '$lib/server/programs/input';
 import { versionResult } from '$lib/server/programs/load';
 import { buildReport } from '$lib/server/programs/report';
 import { recheckVersion } from '$lib/server/programs/recheck';
-import { processProgramCheck } from '$lib/server/programs/run';
+import { processProgramCheck } from '../../workers/program-check/processor';
 import { summarize } from '$lib/server/programs/summary';
-import { getVersionFile, listPrograms, readLines, uploadProgram } from '$lib/server/programs/store';
+import { getVersionFile, listPrograms } from '$lib/server/programs/queries';
+import { uploadProgram } from '$lib/server/programs/store';
+import { readLines } from '$lib/server/programs/text';
 import { createShopWithOwner } from '$lib/server/shops/create';
 import { getSetupDetail } from '$lib/server/setups/queries';
 import { createSetup, type Actor } from '$lib/server/setups/write';
 import { testDb, uniqueSuffix } from './db';
+import { setEnv } from './env';
 import { insertTwoFixtureMill } from './two-fixture-mill';
 
 const knex: Knex = testDb();
@@ -35,7 +38,7 @@ const inShop = <T>(fn: (trx: Knex.Transaction) => Promise<T>) => withShop(shop, 
  */
 beforeAll(async () => {
 	uploads = await mkdtemp(join(tmpdir(), 'dk-programs-'));
-	process.env.UPLOADS_DIR = uploads;
+	setEnv('UPLOADS_DIR', uploads);
 	const email = `programs-${uniqueSuffix()}@example.test`;
 	const created = await createShopWithOwner(
 		knex,

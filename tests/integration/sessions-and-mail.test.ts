@@ -6,10 +6,11 @@ import { listMembers, removeMember } from '$lib/server/members/members';
 import { createShopWithOwner } from '$lib/server/shops/create';
 import { findUserByEmail } from '$lib/server/users';
 import { testDb, uniqueSuffix } from './db';
+import { setEnv } from './env';
 import { linkIn, mailsTo } from './mail';
 
 /**
- * Issue 13: what ends a person's sessions (the session generation every cookie must match,
+ * What ends a person's sessions (the session generation every cookie must match,
  * checked in hooks.server.ts; tests/e2e/security.spec.ts shows an old cookie refused), and an
  * invitation made while the mail service is down.
  */
@@ -58,13 +59,12 @@ describe('an invitation while the mail service is down', () => {
 	it('is kept, says the e-mail was not sent, and Resend sends it once the service is back', async () => {
 		const email = `ses-down-${uniqueSuffix()}@example.test`;
 		const saved = process.env.SES_ENDPOINT;
-		process.env.SES_ENDPOINT = 'http://127.0.0.1:9'; // nothing listens on the discard port
+		setEnv('SES_ENDPOINT', 'http://127.0.0.1:9'); // nothing listens on the discard port
 		let result;
 		try {
 			result = await invite(knex, shop, email, 'operator', owner);
 		} finally {
-			if (saved === undefined) delete process.env.SES_ENDPOINT;
-			else process.env.SES_ENDPOINT = saved;
+			setEnv('SES_ENDPOINT', saved);
 		}
 		expect(result).toMatchObject({ alreadyMember: false, mailed: false });
 		const [pending] = await knex('invitations')

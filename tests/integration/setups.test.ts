@@ -20,6 +20,7 @@ import {
 } from '$lib/server/setups/write';
 import { engineMachine, getMachine } from '$lib/server/offsets/machine-state';
 import { testDb, uniqueSuffix } from './db';
+import { setEnv } from './env';
 import { insertTwoFixtureMill } from './two-fixture-mill';
 
 const knex: Knex = testDb();
@@ -35,7 +36,7 @@ const inShop = <T>(fn: (trx: Knex.Transaction) => Promise<T>) => withShop(shop, 
 
 beforeAll(async () => {
 	uploads = await mkdtemp(join(tmpdir(), 'dk-setup-photos-'));
-	process.env.UPLOADS_DIR = uploads;
+	setEnv('UPLOADS_DIR', uploads);
 	const email = `setups-${uniqueSuffix()}@example.test`;
 	const created = await createShopWithOwner(
 		knex,

@@ -5,6 +5,7 @@ import type { Knex } from 'knex';
 import { afterAll, describe, expect, it } from 'vitest';
 import yauzl from 'yauzl';
 import { config } from '$lib/server/config';
+import { setEnv } from './env';
 import { withShop } from '$lib/server/db/tenant';
 import { purgeShop, requestDeletion, restoreShop } from '$lib/server/shops/deletion';
 import { buildExport, exportForToken, requestExport } from '$lib/server/shops/export';
@@ -14,7 +15,7 @@ import { schemaExists, testDb, uniqueSuffix } from './db';
 import { linkIn, mailsTo } from './mail';
 
 /**
- * Leaving (issue 18) against the real PostgreSQL, the fake SES and the files on disk: the export
+ * Leaving a shop (export, deletion, purge) against the real PostgreSQL, the fake SES and the files on disk: the export
  * archive holds every table with the rows the database holds; deletion waits out its grace
  * period, can be restored, and then drops the schema and the uploads.
  */
@@ -144,11 +145,11 @@ describe('delete the shop', () => {
 		expect(await purgeShop(knex, shop.id, new Date(Date.now() + 30 * 86_400_000))).toBe('not-due');
 
 		// Asked again with a zero grace period (as tests set it), then dropped.
-		process.env.SHOP_DELETION_GRACE_SECONDS = '0';
+		setEnv('SHOP_DELETION_GRACE_SECONDS', '0');
 		try {
 			expect((await requestDeletion(knex, shop, by)).ok).toBe(true);
 		} finally {
-			delete process.env.SHOP_DELETION_GRACE_SECONDS;
+			setEnv('SHOP_DELETION_GRACE_SECONDS', undefined);
 		}
 		expect(await purgeShop(knex, shop.id)).toBe('purged');
 		expect(await purgeShop(knex, shop.id)).toBe('not-due');

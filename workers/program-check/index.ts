@@ -1,14 +1,12 @@
 /**
- * Background program checks (issue 6): programs above the inline limits
- * (src/lib/server/programs/file.ts) are stored with a queued check and put on this queue; the
- * processor streams the stored file through the engine and writes progress and the result to
- * the check's row, which the program page polls.
+ * Background program checks: the worker of the `program-check` queue (producer and job data:
+ * src/lib/server/queues/program-check.ts; what a job does: ./processor.ts).
  */
 import { Worker } from 'bullmq';
-import { PROGRAM_CHECK_QUEUE } from '$lib/server/programs/queue';
-import { processProgramCheck, type ProgramCheckJob } from '$lib/server/programs/run';
 import { QUEUE_PREFIX, workerConnection } from '$lib/server/queues/connection';
+import { PROGRAM_CHECK_QUEUE, type ProgramCheckJob } from '$lib/server/queues/program-check';
 import type { Closable } from '../index';
+import { processProgramCheck } from './processor';
 
 export async function start(): Promise<Closable> {
 	const worker = new Worker<ProgramCheckJob>(

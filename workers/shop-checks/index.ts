@@ -1,5 +1,6 @@
 import { Worker } from 'bullmq';
 import type { Knex } from 'knex';
+import { config } from '$lib/server/config';
 import { db } from '$lib/server/db';
 import { workerConnection, QUEUE_PREFIX } from '$lib/server/queues/connection';
 import {
@@ -15,8 +16,8 @@ import { withShop } from '$lib/server/db/tenant';
 
 /** Lock and stalled-job check timing from SHOP_CHECKS_LOCK_MS (BullMQ's defaults when unset). */
 function lockOptions(): { lockDuration?: number; stalledInterval?: number } {
-	const ms = Number(process.env.SHOP_CHECKS_LOCK_MS);
-	if (!Number.isFinite(ms) || ms <= 0) return {};
+	const ms = config.shopChecks.lockMs;
+	if (ms === undefined) return {};
 	return { lockDuration: ms, stalledInterval: Math.max(500, Math.round(ms / 2)) };
 }
 
@@ -80,9 +81,9 @@ export async function start(): Promise<Closable[]> {
 		{
 			connection: workerConnection(),
 			prefix: QUEUE_PREFIX,
-			concurrency: Number(process.env.SHOP_CHECKS_CONCURRENCY ?? 2),
+			concurrency: config.shopChecks.concurrency,
 			// Seen on a job as `processedBy`: which of several workers has it (npm run cluster).
-			name: process.env.WORKER_NAME || `worker-${process.pid}`,
+			name: config.shopChecks.workerName ?? `worker-${process.pid}`,
 			// A worker that dies mid-job stops renewing its lock; after lockDuration another worker's
 			// stalled-job check takes the job over (idempotent, so the rerun is safe). BullMQ's 30 s
 			// default unless SHOP_CHECKS_LOCK_MS says otherwise (the cluster test uses a few seconds).

@@ -1,35 +1,18 @@
 /**
- * Shop lifecycle jobs (issue 18): "export everything" archives with progress, and dropping a
- * deleted shop's schema and uploads once its grace period is over. A repeatable sweep every
- * minute also purges any shop that is due, so a purge job lost with Redis is never missed.
+ * Shop lifecycle jobs: the worker of the `shop-lifecycle` queue (producer and job data:
+ * src/lib/server/queues/shop-lifecycle.ts; what a job does: ./processor.ts). A repeatable sweep
+ * every minute also purges any shop that is due, so a purge job lost with Redis is never missed.
  */
 import { Queue, Worker } from 'bullmq';
-import { db } from '$lib/server/db';
 import { QUEUE_PREFIX, workerConnection } from '$lib/server/queues/connection';
-import { purgeShop, shopsDueForPurge } from '$lib/server/shops/deletion';
-import { buildExport } from '$lib/server/shops/export';
-import {
-	LIFECYCLE_JOB_OPTIONS,
-	SHOP_LIFECYCLE_QUEUE,
-	type ShopLifecycleJob
-} from '$lib/server/shops/lifecycle-queue';
+import { LIFECYCLE_JOB_OPTIONS, SHOP_LIFECYCLE_QUEUE } from '$lib/server/queues/shop-lifecycle';
 import type { Closable } from '../index';
-
-type Job = ShopLifecycleJob | { kind: 'sweep' };
+import { processLifecycleJob, type Job } from './processor';
 
 export async function start(): Promise<Closable[]> {
 	const worker = new Worker<Job>(
 		SHOP_LIFECYCLE_QUEUE,
-		async (job) => {
-			const data = job.data;
-			if (data.kind === 'export') {
-				return buildExport(db(), data.exportId, (pct) => job.updateProgress(pct));
-			}
-			if (data.kind === 'purge') return purgeShop(db(), data.shopId);
-			const due = await shopsDueForPurge(db());
-			for (const id of due) await purgeShop(db(), id);
-			return { purged: due.length };
-		},
+		(job) => processLifecycleJob(job.data, (pct) => job.updateProgress(pct)),
 		{ connection: workerConnection(), prefix: QUEUE_PREFIX, concurrency: 1 }
 	);
 	worker.on('failed', (job, err) =>

@@ -1,8 +1,8 @@
 import { closeDb } from './db';
 import { stopChangeFeed } from './db/change-feed';
-import { closeProgramQueue } from './programs/queue';
+import { closeProgramQueue } from './queues/program-check';
 import { closeAppQueue } from './queues/shop-checks';
-import { closeLifecycleQueue } from './shops/lifecycle-queue';
+import { closeLifecycleQueue } from './queues/shop-lifecycle';
 import { closeRedis } from './redis';
 
 /**

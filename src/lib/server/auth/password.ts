@@ -1,10 +1,8 @@
 import bcrypt from 'bcryptjs';
-
-/** bcrypt cost; 12 is a common production choice, tests may lower it through the env. */
-const COST = Number(process.env.BCRYPT_COST ?? 12);
+import { config } from '../config';
 
 export function hashPassword(password: string): Promise<string> {
-	return bcrypt.hash(password, COST);
+	return bcrypt.hash(password, config.bcryptCost);
 }
 
 /**
@@ -14,7 +12,7 @@ export function hashPassword(password: string): Promise<string> {
  */
 let dummy: Promise<string> | undefined;
 function dummyHash(): Promise<string> {
-	dummy ??= bcrypt.hash(crypto.randomUUID(), COST);
+	dummy ??= bcrypt.hash(crypto.randomUUID(), config.bcryptCost);
 	return dummy;
 }
 

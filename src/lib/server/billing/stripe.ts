@@ -33,8 +33,7 @@ export function stripe(): Stripe {
 
 /** The Stripe price id of a plan: STRIPE_PRICE_<PLAN> when set, else the local fake's id. */
 export function priceIdFor(plan: PlanKey): string {
-	const fromEnv = process.env[`STRIPE_PRICE_${plan.toUpperCase()}`];
-	return fromEnv || PLANS.find((p) => p.key === plan)!.defaultPriceId;
+	return config.stripe.prices[plan] ?? PLANS.find((p) => p.key === plan)!.defaultPriceId;
 }
 
 /**

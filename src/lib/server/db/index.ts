@@ -27,7 +27,7 @@ export function createDb(url: string, opts: { role?: string } = {}): Knex {
 		connection: url,
 		pool: {
 			min: 0,
-			max: Number(process.env.DATABASE_POOL_MAX ?? 10),
+			max: config.databasePoolMax,
 			...(role && {
 				afterCreate(
 					conn: { query: (q: string, cb: (e: Error | null) => void) => void },

@@ -1,7 +1,8 @@
+import { config } from '../config';
 import type { ChangeFeed } from './change-feed';
 
 /**
- * Read your own writes across app nodes (issue 19). Each node's caches hear a change when its
+ * Read your own writes across app nodes. Each node's caches hear a change when its
  * PostgreSQL notification arrives — normally within milliseconds, but a node whose feed is
  * behind could answer a user's next request from a cache that predates their own write.
  *
@@ -21,10 +22,7 @@ export const WROTE_COOKIE = 'dk_wrote';
 /** How long the cookie matters: a feed that is this far behind is caught by its heartbeat. */
 export const WROTE_TTL_S = 30;
 
-const clockSkewMs = () => {
-	const v = Number(process.env.CLOCK_SKEW_MS);
-	return Number.isFinite(v) && v >= 0 ? v : 100;
-};
+const clockSkewMs = () => config.clockSkewMs;
 
 /** The Set-Cookie value for a write answered at `at` (ms since the epoch). */
 export function wroteCookie(at: number, secure: boolean): string {

@@ -5,21 +5,15 @@ const clients = new Map<string | undefined, SESClient>();
 
 /**
  * The real AWS SDK client. In development and tests its endpoint is the project's fake SES
- * (fakes/ses.ts); in production leave SES_ENDPOINT and FAKE_SES_PORT unset to reach AWS.
- * The endpoint is read on every call (one client kept per endpoint), so a test can move it.
+ * (fakes/ses.ts), with fixed credentials the fake ignores; in production leave SES_ENDPOINT and
+ * FAKE_SES_PORT unset to reach AWS, where the SDK finds credentials itself (environment, shared
+ * files, instance or task role). One client is kept per endpoint, so a test can move it.
  */
 export function ses(): SESClient {
-	const endpoint = config.sesEndpoint;
+	const { endpoint, region, credentials } = config.ses;
 	let client = clients.get(endpoint);
 	if (client) return client;
-	client = new SESClient({
-		region: process.env.AWS_REGION ?? 'us-east-1',
-		endpoint,
-		credentials: {
-			accessKeyId: process.env.AWS_ACCESS_KEY_ID ?? 'local-fake',
-			secretAccessKey: process.env.AWS_SECRET_ACCESS_KEY ?? 'local-fake'
-		}
-	});
+	client = new SESClient({ region, endpoint, ...(credentials && { credentials }) });
 	clients.set(endpoint, client);
 	return client;
 }
@@ -34,7 +28,7 @@ export interface OutgoingEmail {
 export async function sendViaSes(mail: OutgoingEmail): Promise<string | undefined> {
 	const out = await ses().send(
 		new SendEmailCommand({
-			Source: process.env.MAIL_FROM ?? 'Datumkeep <no-reply@datumkeep.test>',
+			Source: config.ses.from,
 			Destination: { ToAddresses: [mail.to] },
 			Message: {
 				Subject: { Data: mail.subject, Charset: 'UTF-8' },

@@ -1,5 +1,6 @@
 import { promisify } from 'node:util';
 import { gzip } from 'node:zlib';
+import { config } from '../config';
 import { changeFeed, perProcess } from '../db/change-feed';
 import { withShop, type ShopRef } from '../db/tenant';
 import { boardAges } from '../shops/settings';
@@ -40,7 +41,7 @@ export function preparedFleetBoard(shop: ShopRef): Promise<PreparedBoard> {
 			gzip: new Uint8Array(zipped.buffer, zipped.byteOffset, zipped.byteLength) as Bytes
 		};
 	};
-	if (process.env.FLEET_BOARD_CACHE === 'off') return build();
+	if (!config.fleetBoardCache) return build();
 	const cache = perProcess('fleetBoards', () =>
 		createBoardCache<PreparedBoard>({ feed: changeFeed() })
 	);

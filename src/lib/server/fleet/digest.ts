@@ -1,8 +1,10 @@
 import type { Knex } from 'knex';
+import { escapeHtml } from '$lib/html';
 import { findingTitle } from '$lib/offsets';
 import { config } from '../config';
 import { db } from '../db';
 import { withShop } from '../db/tenant';
+import { renderEmail, type EmailPart } from '../email/layout';
 import { sendEmail } from '../email/send';
 import type { ShopRow } from '../shops/queries';
 import { localDate } from './check';
@@ -124,12 +126,9 @@ export async function digestFindings(
 	}));
 }
 
-const escape = (s: string) =>
-	s.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;');
-
 const WORD = { stop: '⛔ Stop', caution: '⚠ Caution' } as const;
 
-/** Text and HTML parts from the same grouping (every e-mail has both). */
+/** Text and HTML parts from the same grouping, in the shell every e-mail shares. */
 export function renderDigest(
 	shop: { slug: string; name: string },
 	day: string,
@@ -142,42 +141,40 @@ export function renderDigest(
 	const groups = new Map<number, DigestFinding[]>();
 	for (const f of findings) groups.set(f.machineId, [...(groups.get(f.machineId) ?? []), f]);
 
-	const text: string[] = [
-		`Morning digest for ${shop.name}, ${day}.`,
-		`${fresh} new since yesterday, ${findings.length - fresh} still open from before.`,
-		''
-	];
-	const html: string[] = [
-		`<p style="line-height:1.5">Morning digest for <strong>${escape(shop.name)}</strong>, ${day}.<br>${fresh} new since yesterday, ${findings.length - fresh} still open from before.</p>`
+	const counts = `${fresh} new since yesterday, ${findings.length - fresh} still open from before.`;
+	const paragraphs: EmailPart[] = [
+		{
+			text: `Morning digest for ${shop.name}, ${day}.\n${counts}`,
+			html: `<p style="line-height:1.5">Morning digest for <strong>${escapeHtml(shop.name)}</strong>, ${escapeHtml(day)}.<br>${counts}</p>`
+		}
 	];
 	for (const list of groups.values()) {
 		const link = `${base}/findings?machine=${list[0].machineId}`;
-		text.push(`${list[0].machineName} — ${link}`);
-		html.push(
-			`<h2 style="font-size:16px;margin:20px 0 6px"><a href="${escape(link)}" style="color:#1f6f78">${escape(list[0].machineName)}</a></h2><ul style="padding-left:18px;margin:0">`
-		);
+		const text = [`${list[0].machineName} — ${link}`];
+		const html = [
+			`<h2 style="font-size:16px;margin:20px 0 6px"><a href="${escapeHtml(link)}" style="color:#1f6f78">${escapeHtml(list[0].machineName)}</a></h2><ul style="padding-left:18px;margin:0">`
+		];
 		for (const f of list) {
 			const tag = `${WORD[f.severity]}${f.isNew ? ' · new' : ''}${f.status === 'acknowledged' ? ' · acknowledged' : ''}`;
 			text.push(`  [${tag}] ${f.subject} — ${f.title}: ${f.message}`);
 			html.push(
-				`<li style="margin:4px 0;line-height:1.4"><strong>${escape(tag)}</strong> — ${escape(f.subject)} — <strong>${escape(f.title)}</strong>: ${escape(f.message)}</li>`
+				`<li style="margin:4px 0;line-height:1.4"><strong>${escapeHtml(tag)}</strong> — ${escapeHtml(f.subject)} — <strong>${escapeHtml(f.title)}</strong>: ${escapeHtml(f.message)}</li>`
 			);
 		}
-		text.push('');
 		html.push('</ul>');
+		paragraphs.push({ text: text.join('\n'), html: html.join('\n') });
 	}
-	text.push(`Fleet board: ${base}/fleet`, `All findings: ${base}/findings`, '');
-	text.push(
-		'You get this because you are an owner, admin or lead of the shop. Turn it off on the Findings page.',
-		'--',
-		'Datumkeep — offsets you can trust at the machine.'
-	);
-	const body = `<!doctype html><html><body style="font-family:Inter,Arial,sans-serif;color:#16181d;background:#f6f6f4;padding:24px">
-<div style="max-width:640px;margin:auto;background:#fff;border:1px solid #e7e5e4;border-radius:8px;padding:24px">
-${html.join('\n')}
-<p style="margin-top:20px"><a href="${escape(`${base}/fleet`)}" style="display:inline-block;background:#1f6f78;color:#fff;padding:10px 16px;border-radius:6px;text-decoration:none">Open the fleet board</a></p>
-<p style="font-size:12px;color:#57534e">You get this because you are an owner, admin or lead of the shop. Turn it off on the <a href="${escape(`${base}/findings`)}">Findings</a> page.</p>
-<p style="font-size:12px;color:#57534e">Datumkeep — offsets you can trust at the machine.</p>
-</div></body></html>`;
-	return { subject, text: text.join('\n'), html: body };
+	const why = 'You get this because you are an owner, admin or lead of the shop.';
+	return renderEmail({
+		subject,
+		paragraphs,
+		action: { label: 'Open the fleet board', url: `${base}/fleet` },
+		notes: [
+			{
+				text: `${why} Turn it off on the Findings page: ${base}/findings`,
+				html: `<p style="font-size:12px;color:#57534e">${why} Turn it off on the <a href="${escapeHtml(`${base}/findings`)}">Findings</a> page.</p>`
+			}
+		],
+		wide: true
+	});
 }

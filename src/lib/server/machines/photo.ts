@@ -3,12 +3,14 @@ import { mkdir, readFile, rm, writeFile } from 'node:fs/promises';
 import { dirname } from 'node:path';
 import type { Knex } from 'knex';
 import { audit } from '../audit';
+import { afterTransaction } from '../db/after-transaction';
 import { checkPhoto, PHOTO_TYPES, storagePath } from '../setups/photos';
 import type { Actor } from './service';
 
 /**
  * Sets (or replaces) a machine's photo, with the same type and size checks as setup photos. The
- * new file is written first and the old one removed only after the row points at the new one.
+ * new file is written first; the old one is removed only once the transaction has committed
+ * (a rollback keeps it, since the row still points at it), and the new one if it rolls back.
  */
 export async function setMachinePhoto(
 	trx: Knex.Transaction,
@@ -23,6 +25,7 @@ export async function setMachinePhoto(
 	const path = storagePath(key);
 	await mkdir(dirname(path), { recursive: true });
 	await writeFile(path, checked.bytes, { flag: 'wx' });
+	const removeNew = () => rm(path, { force: true });
 	try {
 		const old = await trx('machines').where({ id: machineId }).first('photo_key');
 		await trx('machines')
@@ -35,10 +38,16 @@ export async function setMachinePhoto(
 			target: `machine ${machineId}`,
 			detail: { name: checked.name, bytes: checked.bytes.byteLength }
 		});
-		if (old?.photo_key) await rm(storagePath(old.photo_key), { force: true });
+		const oldKey: string | null = old?.photo_key ?? null;
+		afterTransaction(trx, {
+			committed: async () => {
+				if (oldKey) await rm(storagePath(oldKey), { force: true });
+			},
+			rolledBack: removeNew
+		});
 		return { ok: true };
 	} catch (e) {
-		await rm(path, { force: true });
+		await removeNew();
 		throw e;
 	}
 }

@@ -2,8 +2,9 @@ import { fail, redirect, type RequestEvent } from '@sveltejs/kit';
 import { withShop } from '../db/tenant';
 import { requireMember } from '../guard';
 import { setupFromParam } from '../setups/load';
-import { getProgram, uploadProgram } from './store';
-import { enqueueProgramCheck } from './queue';
+import { getProgram } from './queries';
+import { uploadProgram } from './store';
+import { enqueueProgramCheck } from '../queues/program-check';
 import { recheckVersion } from './recheck';
 import { runQueuedCheck } from './run';
 

@@ -6,11 +6,11 @@ import {
 	getCheck,
 	getProgram,
 	listVersions,
-	readLineSet,
 	getVersionFile,
 	type CheckDetail,
 	type VersionView
-} from './store';
+} from './queries';
+import { readLineSet } from './text';
 import { findingLine } from './summary';
 
 /** The setup and program named in the URL, or 404 (also for another setup's or shop's ids). */

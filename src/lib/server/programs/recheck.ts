@@ -5,7 +5,7 @@ import type { Actor } from '../setups/write';
 import { checksInBackground } from './file';
 import type { CheckInput } from './input';
 import { checkStream, doneFields } from './run';
-import { getVersionFile } from './store';
+import { getVersionFile } from './queries';
 
 export type RecheckResult =
 	{ ok: true; checkId: number; background: boolean } | { ok: false; message: string };

@@ -1,7 +1,7 @@
 import { formatWithUnits, type Finding, type ProgramCheckResult } from '$lib/offsets';
 import { fileSlug } from '../setups/load-program';
 import type { CheckInput } from './input';
-import type { CheckView, VersionView } from './store';
+import type { CheckView, VersionView } from './queries';
 import { findingLine, KIND_LABEL, summarize, type Freshness } from './summary';
 
 /** The cautions printed on every report (same words as the Cautions component). */

@@ -166,19 +166,3 @@ function safeProblems(e: unknown): string {
 		return `The check stopped with an error: ${(e as Error).message ?? 'unknown'}`;
 	}
 }
-
-/** Job data of the program-check queue: ids only. */
-export interface ProgramCheckJob {
-	shopId: number;
-	checkId: number;
-}
-
-/** The background processor: finds the shop's schema and runs the check (see runQueuedCheck). */
-export async function processProgramCheck(
-	job: ProgramCheckJob,
-	conn: Knex = db()
-): Promise<ProcessOutcome> {
-	const shop = await conn('public.shops').where({ id: job.shopId }).first('id', 'schema_name');
-	if (!shop) return { status: 'skipped' };
-	return runQueuedCheck({ id: Number(shop.id), schemaName: shop.schema_name }, job.checkId, conn);
-}

@@ -1,11 +1,9 @@
-import { randomUUID } from 'node:crypto';
-import { createReadStream } from 'node:fs';
+import { createHash, randomUUID } from 'node:crypto';
 import { mkdir, rm, writeFile } from 'node:fs/promises';
 import { dirname } from 'node:path';
-import { createInterface } from 'node:readline';
 import type { Knex } from 'knex';
-import type { ProgramCheckResult } from '$lib/offsets';
 import { audit } from '../audit';
+import { afterTransaction } from '../db/after-transaction';
 import { storagePath } from '../setups/photos';
 import type { SetupDetail } from '../setups/queries';
 import type { Actor } from '../setups/write';
@@ -13,216 +11,7 @@ import { checksInBackground, checkProgramFile, countLines, programNameFrom } fro
 import { programSetupFor, type CheckInput } from './input';
 import { checkWhole, doneFields } from './run';
 
-/** `trx` below is always a shop transaction (withShop). */
-
-const iso = (v: unknown) => (v ? new Date(v as string).toISOString() : null);
-
-export type CheckStatus = 'queued' | 'running' | 'done' | 'failed';
-
-/** One check as the pages and the JSON API show it. */
-export interface CheckView {
-	id: number;
-	versionId: number;
-	status: CheckStatus;
-	mode: 'inline' | 'background';
-	progress: { lines: number; bytes: number; totalBytes: number; totalLines: number };
-	stops: number;
-	cautions: number;
-	note: string;
-	queuedAt: string;
-	startedAt: string | null;
-	checkedAt: string | null;
-}
-
-export interface VersionView {
-	id: number;
-	version: number;
-	originalName: string;
-	byteSize: number;
-	lineCount: number;
-	sha256: string;
-	uploadedAt: string;
-	uploadedByName: string | null;
-	check: CheckView | null;
-}
-
-export interface ProgramSummary {
-	id: number;
-	name: string;
-	createdAt: string;
-	latest: VersionView | null;
-	versionCount: number;
-}
-
-function toCheck(r: Record<string, unknown>, v: { byte_size: unknown; line_count: unknown }) {
-	return {
-		id: Number(r.id),
-		versionId: Number(r.version_id),
-		status: r.status as CheckStatus,
-		mode: r.mode as CheckView['mode'],
-		progress: {
-			lines: Number(r.progress_lines),
-			bytes: Number(r.progress_bytes),
-			totalBytes: Number(v.byte_size),
-			totalLines: Number(v.line_count)
-		},
-		stops: Number(r.stops),
-		cautions: Number(r.cautions),
-		note: String(r.note ?? ''),
-		queuedAt: iso(r.queued_at)!,
-		startedAt: iso(r.started_at),
-		checkedAt: iso(r.checked_at)
-	} satisfies CheckView;
-}
-
-const CHECK_COLUMNS = [
-	'id',
-	'version_id',
-	'status',
-	'mode',
-	'progress_lines',
-	'progress_bytes',
-	'stops',
-	'cautions',
-	'note',
-	'queued_at',
-	'started_at',
-	'checked_at'
-];
-
-/** Versions of a program, newest first, each with its newest check. */
-export async function listVersions(
-	trx: Knex.Transaction,
-	programId: number
-): Promise<VersionView[]> {
-	const rows = await trx('program_versions as v')
-		.leftJoin('public.users as u', 'u.id', 'v.uploaded_by')
-		.where('v.program_id', programId)
-		.orderBy('v.version', 'desc')
-		.select('v.*', 'u.name as uploaded_by_name');
-	if (rows.length === 0) return [];
-	const checks = await trx('program_checks')
-		.whereIn(
-			'version_id',
-			rows.map((r) => r.id)
-		)
-		.orderBy('id', 'desc')
-		.select(CHECK_COLUMNS);
-	return rows.map((v) => {
-		const c = checks.find((x) => Number(x.version_id) === Number(v.id));
-		return {
-			id: Number(v.id),
-			version: v.version,
-			originalName: v.original_name,
-			byteSize: Number(v.byte_size),
-			lineCount: Number(v.line_count),
-			sha256: v.sha256,
-			uploadedAt: iso(v.uploaded_at)!,
-			uploadedByName: v.uploaded_by_name ?? null,
-			check: c ? toCheck(c, v) : null
-		};
-	});
-}
-
-/** The setup's programs, by name, each with its newest version and that version's check. */
-export async function listPrograms(
-	trx: Knex.Transaction,
-	setupId: number
-): Promise<ProgramSummary[]> {
-	const programs = await trx('programs').where({ setup_id: setupId }).orderBy('name');
-	const out: ProgramSummary[] = [];
-	for (const p of programs) {
-		const versions = await listVersions(trx, Number(p.id));
-		out.push({
-			id: Number(p.id),
-			name: p.name,
-			createdAt: iso(p.created_at)!,
-			latest: versions[0] ?? null,
-			versionCount: versions.length
-		});
-	}
-	return out;
-}
-
-/** A program of this setup, or undefined (also for another setup's or shop's id). */
-export async function getProgram(
-	trx: Knex.Transaction,
-	setupId: number,
-	param: string | number | undefined
-): Promise<{ id: number; name: string; createdAt: string } | undefined> {
-	const id = Number(param);
-	if (!Number.isSafeInteger(id) || id <= 0) return undefined;
-	const p = await trx('programs').where({ id, setup_id: setupId }).first();
-	return p ? { id: Number(p.id), name: p.name, createdAt: iso(p.created_at)! } : undefined;
-}
-
-export interface CheckDetail {
-	check: CheckView;
-	input: CheckInput;
-	result: ProgramCheckResult | null;
-}
-
-/** One check of this program (with its input and result), or undefined. */
-export async function getCheck(
-	trx: Knex.Transaction,
-	programId: number,
-	param: string | number | undefined
-): Promise<CheckDetail | undefined> {
-	const id = Number(param);
-	if (!Number.isSafeInteger(id) || id <= 0) return undefined;
-	const r = await trx('program_checks as c')
-		.join('program_versions as v', 'v.id', 'c.version_id')
-		.where({ 'c.id': id, 'v.program_id': programId })
-		.first('c.*', 'v.byte_size', 'v.line_count');
-	if (!r) return undefined;
-	return {
-		check: toCheck(r, r),
-		input: r.input as CheckInput,
-		result: (r.result as ProgramCheckResult | null) ?? null
-	};
-}
-
-/** Where a stored version's text is, or undefined when it is not this program's. */
-export async function getVersionFile(
-	trx: Knex.Transaction,
-	programId: number,
-	versionId: number
-): Promise<{ path: string; lineCount: number; name: string } | undefined> {
-	if (!Number.isSafeInteger(versionId) || versionId <= 0) return undefined;
-	const v = await trx('program_versions').where({ id: versionId, program_id: programId }).first();
-	if (!v) return undefined;
-	return {
-		path: storagePath(v.storage_key),
-		lineCount: Number(v.line_count),
-		name: v.original_name
-	};
-}
-
-/** Lines `from`…`to` (1-based, inclusive) of a stored text, read as a stream (big files stay out of memory). */
-export async function readLines(
-	path: string,
-	from: number,
-	to: number,
-	maxChars = 400
-): Promise<{ n: number; text: string }[]> {
-	const out: { n: number; text: string }[] = [];
-	const stream = createReadStream(path, { encoding: 'utf8' });
-	const lines = createInterface({ input: stream, crlfDelay: Infinity });
-	let n = 0;
-	try {
-		for await (const raw of lines) {
-			n++;
-			if (n < from) continue;
-			if (n > to) break;
-			const text = n === 1 ? raw.replace(/^\uFEFF/, '') : raw;
-			out.push({ n, text: text.length > maxChars ? `${text.slice(0, maxChars)} …` : text });
-		}
-	} finally {
-		lines.close();
-		stream.destroy();
-	}
-	return out;
-}
+/** Storing program uploads: each a new version on disk and in the database, with its check. */
 
 export type UploadResult =
 	| {
@@ -307,6 +96,8 @@ async function storeVersion(
 	const path = storagePath(key);
 	await mkdir(dirname(path), { recursive: true });
 	await writeFile(path, v.bytes, { flag: 'wx' });
+	// Rolled back later in the caller's transaction: no row points at the file any more.
+	afterTransaction(trx, { rolledBack: () => rm(path, { force: true }) });
 	try {
 		const [row] = await trx('program_versions')
 			.insert({
@@ -379,7 +170,6 @@ export async function seedProgram(
 	const built = await programSetupFor(trx, setup, now);
 	if (!built.ok) throw new Error(`demo program ${program.name}: ${built.reasons.join(' ')}`);
 	const bytes = new TextEncoder().encode(program.text);
-	const { createHash } = await import('node:crypto');
 	await storeVersion(trx, rows[0].s, setup.id, {
 		name: program.name,
 		originalName: program.fileName,
@@ -391,35 +181,4 @@ export async function seedProgram(
 		input: built.input,
 		actor
 	});
-}
-
-/** The text of some lines of a stored file (for findings beside their code), read as a stream. */
-export async function readLineSet(
-	path: string,
-	wanted: number[],
-	maxChars = 200
-): Promise<Map<number, string>> {
-	const out = new Map<number, string>();
-	if (wanted.length === 0) return out;
-	const want = new Set(wanted);
-	const last = Math.max(...wanted);
-	const stream = createReadStream(path, { encoding: 'utf8' });
-	const lines = createInterface({ input: stream, crlfDelay: Infinity });
-	let n = 0;
-	try {
-		for await (const raw of lines) {
-			n++;
-			if (want.has(n)) {
-				const text = n === 1 ? raw.replace(/^\uFEFF/, '') : raw;
-				out.set(n, text.length > maxChars ? `${text.slice(0, maxChars)} …` : text);
-			}
-			if (n >= last) break;
-		}
-	} catch {
-		// A missing file: the findings show without their code.
-	} finally {
-		lines.close();
-		stream.destroy();
-	}
-	return out;
 }

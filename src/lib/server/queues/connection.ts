@@ -19,4 +19,4 @@ export function producerConnection(extra: RedisOptions = {}, url = config.redisU
 }
 
 /** Queue names, one per folder under workers/. Job data carries ids only, never secrets. */
-export const QUEUE_PREFIX = process.env.QUEUE_PREFIX ?? 'datumkeep';
+export const QUEUE_PREFIX = config.queuePrefix;

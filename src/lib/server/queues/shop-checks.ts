@@ -1,10 +1,11 @@
 import { Queue, type JobsOptions } from 'bullmq';
 import type { Knex } from 'knex';
 import type { Redis } from 'ioredis';
+import { config } from '../config';
 import { producerConnection, QUEUE_PREFIX } from './connection';
 
 /**
- * The `shop-checks` queue (issue 7): one nightly job scheduler per shop at the shop's own hour
+ * The `shop-checks` queue: one nightly job scheduler per shop at the shop's own hour
  * in its own time zone, plus "Check now" jobs. Job data is the shop id only (never secrets,
  * never anything the worker should trust over the database). The app produces; the worker
  * (workers/shop-checks) consumes and keeps the schedulers in step with public.shops.
@@ -21,9 +22,7 @@ export interface ShopCheckData {
 export type ShopCheckName = 'nightly' | 'first-check' | 'check-now' | 'sync-schedules';
 
 /** Retries with exponential backoff; finished jobs are removed after a while (BullMQ guidance). */
-export function jobOptions(
-	backoffMs = Number(process.env.SHOP_CHECKS_BACKOFF_MS ?? 30_000)
-): JobsOptions {
+export function jobOptions(backoffMs = config.shopChecks.backoffMs): JobsOptions {
 	return {
 		attempts: 6,
 		backoff: { type: 'exponential', delay: backoffMs },

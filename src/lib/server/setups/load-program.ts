@@ -100,58 +100,6 @@ function readableField(field: string): string {
 	return field;
 }
 
-const escapeHtml = (s: string) =>
-	s.replace(
-		/[&<>"']/g,
-		(c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!
-	);
-
-/** The download: plain text with content-disposition: attachment. */
-export function programResponse(result: Extract<LoadProgramResult, { ok: true }>): Response {
-	return new Response(result.text, {
-		headers: {
-			'content-type': 'text/plain; charset=utf-8',
-			'content-disposition': `attachment; filename="${result.filename}"`,
-			'cache-control': 'private, no-store'
-		}
-	});
-}
-
-/**
- * A refusal: 422 with the engine's reasons — a small page of its own for a browser that followed
- * the download link (endpoints do not get the app's error page), JSON for anything else.
- */
-export function refusalResponse(
-	request: Request,
-	what: string,
-	reasons: string[],
-	backHref: string
-): Response {
-	const accept = request.headers.get('accept') ?? '';
-	if (!accept.includes('text/html')) {
-		return new Response(JSON.stringify({ message: `No load program for ${what}.`, reasons }), {
-			status: 422,
-			headers: { 'content-type': 'application/json' }
-		});
-	}
-	const items = reasons.map((r) => `<li>${escapeHtml(r)}</li>`).join('');
-	const html = `<!doctype html><html lang="en"><head><meta charset="utf-8"><meta name="viewport" content="width=device-width, initial-scale=1">
-<title>No load program — Datumkeep</title>
-<style>body{font-family:Inter,ui-sans-serif,system-ui,sans-serif;background:#fafaf9;color:#1c1917;margin:0}
-main{max-width:40rem;margin:4rem auto;padding:0 1.5rem}p.k{color:#78716c;font-size:.875rem;margin:0}
-h1{font-size:1.5rem;margin:.25rem 0 1rem}ul{background:#fff;border:1px solid #b91c1c;border-radius:.5rem;padding:1rem 1rem 1rem 2.25rem}
-li{margin:.25rem 0}a{display:inline-block;margin-top:1rem;padding:.6rem 1rem;border:1px solid #d6d3d1;border-radius:.375rem;background:#fff;color:#1c1917;text-decoration:none}</style></head>
-<body><main data-testid="load-program-refused"><p class="k">Error 422 · Load program</p>
-<h1><span aria-hidden="true">⛔</span> Stop: no load program for ${escapeHtml(what)}</h1>
-<p>The offset engine refused to write it, and nothing was downloaded:</p><ul>${items}</ul>
-<p>Put this right on the machine or setup page, then download again.</p>
-<a href="${escapeHtml(backHref)}">Back</a></main></body></html>`;
-	return new Response(html, {
-		status: 422,
-		headers: { 'content-type': 'text/html; charset=utf-8' }
-	});
-}
-
 /** 404 for a setup id that is not in this shop. */
 export function noSuchSetup(): never {
 	error(404, 'No such setup in this shop.');

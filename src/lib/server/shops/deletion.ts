@@ -1,5 +1,5 @@
 /**
- * Deleting a shop (issue 18), in two steps:
+ * Deleting a shop, in two steps:
  *
  * 1. The owner asks, typing the shop's address to confirm. A running subscription is cancelled
  *    at Stripe first (if that fails, nothing changes). The shop becomes read-only for everyone
@@ -26,16 +26,14 @@ import type { ShopRef } from '../db/tenant';
 import { renderEmail } from '../email/layout';
 import { sendEmail } from '../email/send';
 import { logLifecycle } from './lifecycle';
-import { enqueueLifecycle } from './lifecycle-queue';
+import { enqueueLifecycle } from '../queues/shop-lifecycle';
 
 export const DELETION_GRACE_DAYS = 14;
 
 /** The grace period in ms: 14 days, unless SHOP_DELETION_GRACE_SECONDS says otherwise (tests). */
 export function deletionGraceMs(): number {
-	const s = process.env.SHOP_DELETION_GRACE_SECONDS;
-	if (s !== undefined && s !== '' && Number.isFinite(Number(s)) && Number(s) >= 0) {
-		return Number(s) * 1000;
-	}
+	const s = config.shopDeletionGraceSeconds;
+	if (s !== undefined) return s * 1000;
 	return DELETION_GRACE_DAYS * 86_400_000;
 }
 

@@ -1,5 +1,5 @@
 /**
- * "Export everything" (issue 18): the owner asks, the `shop-lifecycle` worker writes one zip
+ * "Export everything": the owner asks, the `shop-lifecycle` worker writes one zip
  * archive with a CSV file per table of the shop's schema (every table, so nothing new is ever
  * left out) and a `manifest.json` naming each file, its columns and its row count. All tables
  * are read in one repeatable-read snapshot, so the counts in the manifest are the rows in the
@@ -20,7 +20,7 @@ import { withShop, type ShopRef } from '../db/tenant';
 import { renderEmail } from '../email/layout';
 import { sendEmail } from '../email/send';
 import { logLifecycle } from './lifecycle';
-import { enqueueLifecycle } from './lifecycle-queue';
+import { enqueueLifecycle } from '../queues/shop-lifecycle';
 
 export const EXPORT_LINK_DAYS = 7;
 const BATCH = 2_000;

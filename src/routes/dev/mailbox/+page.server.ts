@@ -14,10 +14,8 @@ interface FakeMessage {
 
 /** The local fake SES, and only it: a loopback endpoint (never real SES, never elsewhere). */
 function fakeSesEndpoint(): string | undefined {
-	const endpoint = config.sesEndpoint;
-	if (!endpoint) return undefined;
-	const host = new URL(endpoint).hostname;
-	return ['127.0.0.1', 'localhost', '[::1]'].includes(host) ? endpoint : undefined;
+	const { endpoint, local } = config.ses;
+	return local ? endpoint : undefined;
 }
 
 /**

@@ -3,12 +3,8 @@ import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
 import { machineGate } from '$lib/server/offsets/gate';
 import { auditIncluded, includeFlaggedRequested } from '$lib/server/setups/include-flagged';
-import {
-	buildLoadProgram,
-	fileSlug,
-	programResponse,
-	refusalResponse
-} from '$lib/server/setups/load-program';
+import { buildLoadProgram, fileSlug } from '$lib/server/setups/load-program';
+import { programResponse, refusalResponse } from '$lib/server/setups/load-program-response';
 import type { RequestHandler } from './$types';
 
 /**

@@ -2,7 +2,7 @@ import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { auditIncluded, includeFlaggedRequested } from '$lib/server/setups/include-flagged';
 import { setupFromParam, setupLoadProgram } from '$lib/server/setups/load';
-import { programResponse, refusalResponse } from '$lib/server/setups/load-program';
+import { programResponse, refusalResponse } from '$lib/server/setups/load-program-response';
 import type { RequestHandler } from './$types';
 
 /**

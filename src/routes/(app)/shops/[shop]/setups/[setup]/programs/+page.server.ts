@@ -8,7 +8,7 @@ import {
 	PROGRAM_EXTENSIONS,
 	PROGRAM_MAX_BYTES
 } from '$lib/server/programs/file';
-import { listPrograms } from '$lib/server/programs/store';
+import { listPrograms } from '$lib/server/programs/queries';
 import { setupFromParam } from '$lib/server/setups/load';
 import type { Actions, PageServerLoad } from './$types';
 

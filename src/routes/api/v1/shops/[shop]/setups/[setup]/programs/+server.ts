@@ -1,7 +1,7 @@
 import { json } from '@sveltejs/kit';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
-import { listPrograms } from '$lib/server/programs/store';
+import { listPrograms } from '$lib/server/programs/queries';
 import { setupFromParam } from '$lib/server/setups/load';
 import type { RequestHandler } from './$types';
 

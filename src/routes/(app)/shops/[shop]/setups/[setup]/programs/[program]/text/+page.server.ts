@@ -2,7 +2,8 @@ import { error } from '@sveltejs/kit';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { programFromParams } from '$lib/server/programs/load';
-import { getCheck, getVersionFile, listVersions, readLines } from '$lib/server/programs/store';
+import { getCheck, getVersionFile, listVersions } from '$lib/server/programs/queries';
+import { readLines } from '$lib/server/programs/text';
 import { findingLine, KIND_LABEL } from '$lib/server/programs/summary';
 import type { PageServerLoad } from './$types';
 

@@ -2,7 +2,7 @@ import { error, json } from '@sveltejs/kit';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { programFromParams } from '$lib/server/programs/load';
-import { getCheck } from '$lib/server/programs/store';
+import { getCheck } from '$lib/server/programs/queries';
 import type { RequestHandler } from './$types';
 
 /**

@@ -1,9 +1,19 @@
+/**
+ * The `program-check` queue: programs above the inline limits (programs/file.ts) are stored
+ * with a queued check and put here; the worker (workers/program-check/) streams the stored file
+ * through the engine and writes progress and the result to the check's row, which the program
+ * page polls.
+ */
 import { Queue } from 'bullmq';
-import { producerConnection, QUEUE_PREFIX } from '../queues/connection';
-import type { ProgramCheckJob } from './run';
+import { producerConnection, QUEUE_PREFIX } from './connection';
 
-/** The BullMQ queue of large program checks (worker: workers/program-check/). */
 export const PROGRAM_CHECK_QUEUE = 'program-check';
+
+/** Job data of the program-check queue: ids only. */
+export interface ProgramCheckJob {
+	shopId: number;
+	checkId: number;
+}
 /** How long the upload waits for Redis before telling the user the queue is out of reach. */
 const ENQUEUE_TIMEOUT_MS = 3_000;
 

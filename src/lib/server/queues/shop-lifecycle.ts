@@ -3,7 +3,7 @@
  * archives and dropping a deleted shop's data once its grace period is over. Jobs carry ids only.
  */
 import { Queue } from 'bullmq';
-import { producerConnection, QUEUE_PREFIX } from '../queues/connection';
+import { producerConnection, QUEUE_PREFIX } from './connection';
 
 export const SHOP_LIFECYCLE_QUEUE = 'shop-lifecycle';
 
