@@ -4,11 +4,11 @@ import { db } from './db';
 import { changeFeed, perProcess } from './db/change-feed';
 import { createMembershipCache, membershipKey } from './shops/membership-cache';
 import { formerMembership } from './shops/lifecycle';
-import { findMembership, type ShopRow } from './shops/queries';
+import { findMembership, type ShopInfo } from './shops/queries';
 
 export interface Member {
 	user: { id: number; email: string; name: string };
-	shop: ShopRow;
+	shop: ShopInfo;
 	role: Role;
 }
 

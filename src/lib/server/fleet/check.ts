@@ -3,7 +3,7 @@ import type { Finding } from '$lib/offsets';
 import { db } from '../db';
 import { withShop } from '../db/tenant';
 import { machineState, toMachineRecord } from '../offsets/machine-state';
-import type { ShopRow } from '../shops/queries';
+import type { ShopInfo } from '../shops/queries';
 import { readbackFindings, readbackHours } from '../readbacks/findings';
 
 /**
@@ -45,7 +45,7 @@ export const findingRowKey = (machineId: number, f: Pick<Finding, 'key'>) =>
 	`m${machineId}|${f.key}`;
 
 export async function runShopCheck(
-	shop: ShopRow,
+	shop: ShopInfo,
 	run: CheckRun,
 	knex: Knex = db()
 ): Promise<CheckSummary> {
@@ -131,7 +131,7 @@ export async function runShopCheck(
 
 /** Marks the run failed (the job will be retried or has given up). */
 export async function markCheckFailed(
-	shop: ShopRow,
+	shop: ShopInfo,
 	jobId: string,
 	message: string,
 	knex: Knex = db()

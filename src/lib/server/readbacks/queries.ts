@@ -1,5 +1,6 @@
 /** Reading past read-backs (newest first) and the values of one. `trx` is a shop transaction. */
 import type { Knex } from 'knex';
+import type { ReadbackValueRow } from '../db/tables';
 
 export interface ReadbackSummary {
 	id: number;
@@ -13,7 +14,7 @@ export interface ReadbackSummary {
 	note: string;
 }
 
-export interface ReadbackValueRow {
+export interface ReadbackValueLine {
 	kind: 'work' | 'tool' | 'wear' | 'other';
 	register: string;
 	value: number | null;
@@ -55,14 +56,16 @@ export async function listReadbacks(
 export async function readbackValues(
 	trx: Knex.Transaction,
 	readbackId: number
-): Promise<ReadbackValueRow[]> {
-	const rows = await trx('readback_values').where({ readback_id: readbackId }).orderBy('id');
+): Promise<ReadbackValueLine[]> {
+	const rows = await trx<ReadbackValueRow>('readback_values')
+		.where({ readback_id: readbackId })
+		.orderBy('id');
 	return rows.map((r) => ({
-		kind: r.register_kind,
+		kind: r.register_kind as ReadbackValueLine['kind'],
 		register: r.register,
 		value: num(r.value),
 		expected: num(r.expected),
-		status: r.status,
+		status: r.status as ReadbackValueLine['status'],
 		causes: typeof r.causes === 'string' ? JSON.parse(r.causes) : r.causes,
 		noPointText: r.no_point_text
 	}));

@@ -1,4 +1,5 @@
 import type { Knex } from 'knex';
+import { iso } from '../db/convert';
 import {
 	clearancePlanes,
 	isOffsetInputError,
@@ -38,8 +39,6 @@ export interface SetupSummary {
 	createdAt: string;
 	createdByName: string | null;
 }
-
-const iso = (v: unknown) => new Date(v as string).toISOString();
 
 /** Setups of the shop, newest first, optionally for one machine and/or in one state. */
 export async function listSetups(

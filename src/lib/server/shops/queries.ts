@@ -1,8 +1,9 @@
 import type { Knex } from 'knex';
 import type { Role } from '$lib/permissions';
+import type { ShopRow } from '../db/tables';
 import type { ShopRef } from '../db/tenant';
 
-export interface ShopRow extends ShopRef {
+export interface ShopInfo extends ShopRef {
 	slug: string;
 	name: string;
 	timeZone: string;
@@ -11,18 +12,15 @@ export interface ShopRow extends ShopRef {
 }
 
 export interface MembershipView {
-	shop: ShopRow;
+	shop: ShopInfo;
 	role: Role;
 }
 
-function toShop(r: {
-	id: string | number;
-	slug: string;
-	name: string;
-	schema_name: string;
-	time_zone: string;
-	purge_after?: Date | string | null;
-}): ShopRow {
+/** A member's shop always has its schema (purging removes the memberships with it). */
+function toShop(
+	r: Pick<ShopRow, 'id' | 'slug' | 'name' | 'time_zone'> &
+		Partial<Pick<ShopRow, 'purge_after'>> & { schema_name: string }
+): ShopInfo {
 	return {
 		id: Number(r.id),
 		slug: r.slug,
