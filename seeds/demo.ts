@@ -2,7 +2,7 @@ import bcrypt from 'bcryptjs';
 import type { Knex } from 'knex';
 import { seedProgram } from '$lib/server/programs/store';
 import { provisionShop } from '$lib/server/shops/provision';
-import { getSetupDetail } from '$lib/server/setups/queries';
+import { getSetupDetail } from '$lib/server/setups/detail';
 import { getMachine } from '$lib/server/offsets/machine-state';
 import { recordReadback } from '$lib/server/readbacks/record';
 import { demoShops, DEMO_PASSWORD, type DemoMachine } from './demo-data';

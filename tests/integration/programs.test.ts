@@ -15,7 +15,7 @@ import { processProgramCheck } from '$lib/server/programs/run';
 import { summarize } from '$lib/server/programs/summary';
 import { getVersionFile, listPrograms, readLines, uploadProgram } from '$lib/server/programs/store';
 import { createShopWithOwner } from '$lib/server/shops/create';
-import { getSetupDetail } from '$lib/server/setups/queries';
+import { getSetupDetail } from '$lib/server/setups/detail';
 import { createSetup, type Actor } from '$lib/server/setups/write';
 import { testDb, uniqueSuffix } from './db';
 import { insertTwoFixtureMill } from './two-fixture-mill';

@@ -9,7 +9,8 @@ import { withShop } from '$lib/server/db/tenant';
 import { createShopWithOwner } from '$lib/server/shops/create';
 import { setupLoadProgram } from '$lib/server/setups/load';
 import { addSetupPhoto, PHOTO_MAX_BYTES } from '$lib/server/setups/photos';
-import { getSetupDetail, listSetups } from '$lib/server/setups/queries';
+import { getSetupDetail } from '$lib/server/setups/detail';
+import { listSetups } from '$lib/server/setups/queries';
 import { recordSignoff } from '$lib/server/setups/signoff';
 import {
 	changeSetupStatus,

@@ -1,4 +1,5 @@
 import type { Knex } from 'knex';
+import type { MachineRow } from '../db/tables';
 
 export interface MachineSummary {
 	id: number;
@@ -68,4 +69,23 @@ export async function listMachineSummaries(trx: Knex.Transaction): Promise<Machi
 			: null,
 		runningSetup: r.running_setup ?? null
 	}));
+}
+
+/** Active machines by name, for filters and pickers. `trx` is a shop transaction. */
+export async function machineChoices(
+	trx: Knex.Transaction
+): Promise<{ id: number; name: string }[]> {
+	const rows: Pick<MachineRow, 'id' | 'name'>[] = await trx('machines')
+		.whereNull('archived_at')
+		.orderBy('name')
+		.select('id', 'name');
+	return rows.map((m) => ({ id: Number(m.id), name: m.name }));
+}
+
+/** Whether any reading was taken on the machine (its units are then fixed). */
+export async function machineHasReadings(
+	trx: Knex.Transaction,
+	machineId: number
+): Promise<boolean> {
+	return !!(await trx('readings').where({ machine_id: machineId }).first('id'));
 }
