@@ -12,13 +12,9 @@ import { addSetupPhoto, PHOTO_MAX_BYTES } from '$lib/server/setups/photos';
 import { getSetupDetail } from '$lib/server/setups/detail';
 import { listSetups } from '$lib/server/setups/queries';
 import { recordSignoff } from '$lib/server/setups/signoff';
-import {
-	changeSetupStatus,
-	copySetup,
-	createSetup,
-	updateSetup,
-	type Actor
-} from '$lib/server/setups/write';
+import { copySetup } from '$lib/server/setups/copy';
+import { changeSetupStatus } from '$lib/server/setups/status';
+import { createSetup, updateSetup, type Actor } from '$lib/server/setups/write';
 import { engineMachine, getMachine } from '$lib/server/offsets/machine-state';
 import { testDb, uniqueSuffix } from './db';
 import { insertTwoFixtureMill } from './two-fixture-mill';

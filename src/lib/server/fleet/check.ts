@@ -7,7 +7,7 @@ import type { ShopInfo } from '../shops/queries';
 import { readbackFindings, readbackHours } from '../readbacks/findings';
 
 /**
- * The background offset check of one shop (issue 7): the engine's `checkOffsets` (through
+ * The background offset check of one shop (nightly, or "Check now"): the engine's `checkOffsets` (through
  * machineState) over every active machine, stored as findings.
  *
  * Idempotent by construction:
@@ -87,7 +87,7 @@ export async function runShopCheck(
 				const state = await machineState(trx, machine, checkedAt);
 				const names = new Map<string, string>();
 				for (const s of state.checkInput.setups ?? []) if (s.id && s.name) names.set(s.id, s.name);
-				// Read-backs at the control (issue 16): mismatches and registers not verified in time.
+				// Read-backs at the control: mismatches and registers not verified in time.
 				const readback = await readbackFindings(
 					trx,
 					machine,
