@@ -1,6 +1,6 @@
 /** Reading past read-backs (newest first) and the values of one. `trx` is a shop transaction. */
 import type { Knex } from 'knex';
-import type { ReadbackValueRow } from '../db/tables';
+import type { FixtureRow, ReadbackValueRow, ToolRow } from '../db/tables';
 
 export interface ReadbackSummary {
 	id: number;
@@ -69,4 +69,34 @@ export async function readbackValues(
 		causes: typeof r.causes === 'string' ? JSON.parse(r.causes) : r.causes,
 		noPointText: r.no_point_text
 	}));
+}
+
+/** Whether read-back `id` was taken on this machine (the URL may name another machine's). */
+export async function isMachineReadback(
+	trx: Knex.Transaction,
+	machineId: number,
+	id: number
+): Promise<boolean> {
+	return !!(await trx('readbacks').where({ id, machine_id: machineId }).first('id'));
+}
+
+/**
+ * What each register is called on this machine, for the read-back grid: work offsets by their
+ * active fixture's name, H numbers by their tool ("T3 10 mm end mill"), archived tools included.
+ */
+export async function registerNames(
+	trx: Knex.Transaction,
+	machineId: number
+): Promise<{ work: Map<string, string>; tool: Map<string, string> }> {
+	const fixtures: Pick<FixtureRow, 'register' | 'name'>[] = await trx('fixtures')
+		.where({ machine_id: machineId })
+		.whereNull('archived_at')
+		.select('register', 'name');
+	const tools: Pick<ToolRow, 'h_number' | 't_number' | 'description'>[] = await trx('tools')
+		.where({ machine_id: machineId })
+		.select('h_number', 't_number', 'description');
+	return {
+		work: new Map(fixtures.map((f) => [f.register, f.name])),
+		tool: new Map(tools.map((t) => [String(t.h_number), `T${t.t_number} ${t.description}`]))
+	};
 }

@@ -108,3 +108,15 @@ export async function setupChoices(trx: Knex.Transaction): Promise<MachineChoice
 			}))
 	}));
 }
+
+/** Setup `setupId` if it is on this machine (the URL may name another machine's), else undefined. */
+export async function setupOnMachine(
+	trx: Knex.Transaction,
+	setupId: number,
+	machineId: number
+): Promise<{ id: number; name: string } | undefined> {
+	const row: Pick<SetupRow, 'id' | 'name'> | undefined = await trx('setups')
+		.where({ id: setupId, machine_id: machineId })
+		.first('id', 'name');
+	return row && { id: Number(row.id), name: row.name };
+}
