@@ -138,7 +138,7 @@ export async function findingHistory(
 		(out[id] ??= []).push({
 			action: r.action === 'finding.acknowledge' ? 'Acknowledged' : 'Resolved',
 			by: r.name ?? r.actor_email,
-			at: new Date(r.at).toISOString(),
+			at: iso(r.at),
 			comment: String(detail.comment ?? '')
 		});
 	}

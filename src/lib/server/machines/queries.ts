@@ -1,4 +1,5 @@
 import type { Knex } from 'knex';
+import { iso } from '../db/convert';
 import type { MachineRow } from '../db/tables';
 
 export interface MachineSummary {
@@ -62,11 +63,9 @@ export async function listMachineSummaries(trx: Knex.Transaction): Promise<Machi
 		controlStyle: r.control_style,
 		toolCount: r.tool_count,
 		fixtureCount: r.fixture_count,
-		lastReadingAt: r.last_reading_at ? new Date(r.last_reading_at).toISOString() : null,
+		lastReadingAt: r.last_reading_at ? iso(r.last_reading_at) : null,
 		referenceVersion: r.reference_version ?? null,
-		referenceEstablishedAt: r.reference_established_at
-			? new Date(r.reference_established_at).toISOString()
-			: null,
+		referenceEstablishedAt: r.reference_established_at ? iso(r.reference_established_at) : null,
 		runningSetup: r.running_setup ?? null
 	}));
 }

@@ -1,5 +1,6 @@
 /** Reading past read-backs (newest first) and the values of one. `trx` is a shop transaction. */
 import type { Knex } from 'knex';
+import { iso } from '../db/convert';
 import type { FixtureRow, ReadbackValueRow, ToolRow } from '../db/tables';
 
 export interface ReadbackSummary {
@@ -42,7 +43,7 @@ export async function listReadbacks(
 		.select('r.*', 'u.name as taken_by_name');
 	return rows.map((r) => ({
 		id: Number(r.id),
-		takenAt: new Date(r.taken_at).toISOString(),
+		takenAt: iso(r.taken_at),
 		source: r.source,
 		fileName: r.file_name,
 		takenBy: r.taken_by_name ?? null,

@@ -1,4 +1,5 @@
 import type { Knex } from 'knex';
+import { isoOrNull } from '../db/convert';
 import type { Role } from '$lib/permissions';
 import type { ShopRow } from '../db/tables';
 import type { ShopRef } from '../db/tenant';
@@ -27,7 +28,7 @@ function toShop(
 		name: r.name,
 		schemaName: r.schema_name,
 		timeZone: r.time_zone,
-		deletionPurgeAfter: r.purge_after ? new Date(r.purge_after).toISOString() : null
+		deletionPurgeAfter: isoOrNull(r.purge_after)
 	};
 }
 
