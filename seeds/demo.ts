@@ -2,7 +2,7 @@ import bcrypt from 'bcryptjs';
 import type { Knex } from 'knex';
 import { seedProgram } from '$lib/server/programs/store';
 import { provisionShop } from '$lib/server/shops/provision';
-import { getSetupDetail } from '$lib/server/setups/queries';
+import { getSetupDetail } from '$lib/server/setups/detail';
 import { getMachine } from '$lib/server/offsets/machine-state';
 import { recordReadback } from '$lib/server/readbacks/record';
 import { demoShops, DEMO_PASSWORD, type DemoMachine } from './demo-data';
@@ -84,7 +84,7 @@ async function seedMachine(
 			z_travel: m.zTravel,
 			resolution: m.resolution,
 			control_style: m.controlStyle,
-			// The G10 L10 form's machines have the usual 48 extended work offsets (issue 16).
+			// The G10 L10 form's machines have the usual 48 extended work offsets (G54.1 P1…P48).
 			extended_work_offsets: m.controlStyle === 'iso' ? 48 : 0,
 			convention: m.convention,
 			notes: m.notes,

@@ -23,3 +23,10 @@ export function ageFrom(iso: string | null, now = Date.now()): string {
 export function when(iso: string, timeZone: string): string {
 	return formatWhen(iso, timeZone);
 }
+
+/** A file's size as people read it: whole KB (rounded up) below 1 MB, then MB to one decimal. */
+export function formatBytes(bytes: number): string {
+	return bytes < 1024 * 1024
+		? `${Math.ceil(bytes / 1024)} KB`
+		: `${(bytes / (1024 * 1024)).toFixed(1)} MB`;
+}

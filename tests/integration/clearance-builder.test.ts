@@ -5,7 +5,7 @@ import { withShop, type ShopRef } from '$lib/server/db/tenant';
 import { getMachine, machineState } from '$lib/server/offsets/machine-state';
 import { programSetupFor } from '$lib/server/programs/input';
 import { setupFromParam } from '$lib/server/setups/load';
-import { getSetupDetail } from '$lib/server/setups/queries';
+import { getSetupDetail } from '$lib/server/setups/detail';
 import { provisionShop } from '$lib/server/shops/provision';
 import { testDb, uniqueSuffix } from './db';
 import { insertTwoFixtureMill } from './two-fixture-mill';

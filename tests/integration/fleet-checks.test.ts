@@ -14,7 +14,7 @@ import {
 	type ShopCheckName
 } from '$lib/server/queues/shop-checks';
 import { provisionShop } from '$lib/server/shops/provision';
-import type { ShopRow } from '$lib/server/shops/queries';
+import type { ShopInfo } from '$lib/server/shops/queries';
 import { processShopCheck } from '../../workers/shop-checks/processor';
 import { testDb, uniqueSuffix } from './db';
 import { mailsTo } from './mail';
@@ -27,7 +27,7 @@ import { mailsTo } from './mail';
  */
 const knex: Knex = testDb();
 const DAY = 86_400_000;
-let shop: ShopRow;
+let shop: ShopInfo;
 let machineId: number;
 const people: Record<'owner' | 'lead' | 'operator' | 'quiet', { id: number; email: string }> =
 	{} as never;

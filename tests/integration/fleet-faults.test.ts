@@ -20,7 +20,7 @@ import {
 } from '$lib/server/queues/shop-checks';
 import { workerConnection } from '$lib/server/queues/connection';
 import { provisionShop } from '$lib/server/shops/provision';
-import type { ShopRow } from '$lib/server/shops/queries';
+import type { ShopInfo } from '$lib/server/shops/queries';
 import { startFakeSes, type FakeSes } from '../../fakes/ses';
 import { firstChecks } from '../../workers/shop-checks/index';
 import { processShopCheck } from '../../workers/shop-checks/processor';
@@ -35,7 +35,7 @@ import { testDb, uniqueSuffix } from './db';
 const knex: Knex = testDb();
 const DAY = 86_400_000;
 const suffix = uniqueSuffix();
-let shop: ShopRow;
+let shop: ShopInfo;
 const people: Record<'owner' | 'lead' | 'operator', { id: number; email: string; name: string }> =
 	{} as never;
 
@@ -98,7 +98,7 @@ async function until<T>(what: string, fn: () => Promise<T | undefined>, ms = 20_
 }
 
 /** A shop whose one machine has a tool measured 45 days ago: the check finds stale-age. */
-async function staleShop(name: string): Promise<ShopRow> {
+async function staleShop(name: string): Promise<ShopInfo> {
 	const slug = `${name.toLowerCase().replace(/\W+/g, '-')}-${uniqueSuffix()}`;
 	const created = await provisionShop(knex, { name, slug, timeZone: 'Europe/Berlin' });
 	const row = await knex('shops').where({ id: created.id }).first();
@@ -153,7 +153,7 @@ async function staleShop(name: string): Promise<ShopRow> {
 	};
 }
 
-async function addMembers(s: ShopRow, tag: string) {
+async function addMembers(s: ShopInfo, tag: string) {
 	const out: typeof people = {} as never;
 	for (const role of ['owner', 'lead', 'operator'] as const) {
 		const email = `${role}-${tag}-${suffix}@faults.example`;

@@ -17,7 +17,7 @@ import { getVersionFile, listPrograms } from '$lib/server/programs/queries';
 import { uploadProgram } from '$lib/server/programs/store';
 import { readLines } from '$lib/server/programs/text';
 import { createShopWithOwner } from '$lib/server/shops/create';
-import { getSetupDetail } from '$lib/server/setups/queries';
+import { getSetupDetail } from '$lib/server/setups/detail';
 import { createSetup, type Actor } from '$lib/server/setups/write';
 import { testDb, uniqueSuffix } from './db';
 import { setEnv } from './env';

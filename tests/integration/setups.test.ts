@@ -9,15 +9,12 @@ import { withShop } from '$lib/server/db/tenant';
 import { createShopWithOwner } from '$lib/server/shops/create';
 import { setupLoadProgram } from '$lib/server/setups/load';
 import { addSetupPhoto, PHOTO_MAX_BYTES } from '$lib/server/setups/photos';
-import { getSetupDetail, listSetups } from '$lib/server/setups/queries';
+import { getSetupDetail } from '$lib/server/setups/detail';
+import { listSetups } from '$lib/server/setups/queries';
 import { recordSignoff } from '$lib/server/setups/signoff';
-import {
-	changeSetupStatus,
-	copySetup,
-	createSetup,
-	updateSetup,
-	type Actor
-} from '$lib/server/setups/write';
+import { copySetup } from '$lib/server/setups/copy';
+import { changeSetupStatus } from '$lib/server/setups/status';
+import { createSetup, updateSetup, type Actor } from '$lib/server/setups/write';
 import { engineMachine, getMachine } from '$lib/server/offsets/machine-state';
 import { testDb, uniqueSuffix } from './db';
 import { setEnv } from './env';

@@ -4,7 +4,7 @@ import { db } from '$lib/server/db';
 import { markCheckFailed, runShopCheck, type CheckSummary } from '$lib/server/fleet/check';
 import { sendDigests, type DigestResult } from '$lib/server/fleet/digest';
 import type { ShopCheckData } from '$lib/server/queues/shop-checks';
-import type { ShopRow } from '$lib/server/shops/queries';
+import type { ShopInfo } from '$lib/server/shops/queries';
 
 export interface ShopCheckResult extends CheckSummary {
 	shopId: number;
@@ -16,7 +16,7 @@ async function loadShop(knex: Knex, shopId: number) {
 		.where({ id: shopId })
 		.first('id', 'slug', 'name', 'schema_name', 'time_zone');
 	if (!s || !s.schema_name) return undefined;
-	const shop: ShopRow = {
+	const shop: ShopInfo = {
 		id: Number(s.id),
 		slug: s.slug,
 		name: s.name,

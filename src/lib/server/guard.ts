@@ -4,11 +4,11 @@ import { db } from './db';
 import { changeFeed, perProcess } from './db/change-feed';
 import { createMembershipCache, membershipKey } from './shops/membership-cache';
 import { formerMembership } from './shops/lifecycle';
-import { findMembership, type ShopRow } from './shops/queries';
+import { findMembership, type ShopInfo } from './shops/queries';
 
 export interface Member {
 	user: { id: number; email: string; name: string };
-	shop: ShopRow;
+	shop: ShopInfo;
 	role: Role;
 }
 
@@ -63,7 +63,8 @@ export async function requireMember(
 	const membership = await membershipFor(event, user.id, slug);
 	if (!membership) {
 		// Someone removed from the shop (or whose shop was deleted) is told so on a page of its
-		// own rather than a bare "not found"; everyone else still learns nothing (issue 18).
+		// own rather than a bare "not found"; everyone else still learns nothing
+		// (no hint that a shop with this slug exists).
 		if (!isApi(event) && (await formerMembership(db(), user.id, slug))) {
 			redirect(303, `/access-ended/${encodeURIComponent(slug)}`);
 		}
@@ -73,7 +74,7 @@ export async function requireMember(
 		error(403, 'Your role in this shop does not allow this.');
 	}
 	// A shop waiting out its deletion grace period is read-only; only its owner may act, to
-	// restore it (issue 18).
+	// restore it (the guard answers 423 to anyone else's writes).
 	if (
 		membership.shop.deletionPurgeAfter &&
 		!onlyReads(event.request.method) &&

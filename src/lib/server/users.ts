@@ -1,6 +1,7 @@
 import type { Knex } from 'knex';
+import type { UserRow } from './db/tables';
 
-export interface UserRow {
+export interface UserAccount {
 	id: number;
 	email: string;
 	name: string;
@@ -9,24 +10,26 @@ export interface UserRow {
 	sessionGeneration: number;
 }
 
-const COLUMNS = ['id', 'email', 'name', 'password_hash', 'session_generation'];
-const toUser = (r: Record<string, unknown>): UserRow => ({
+const COLUMNS = ['id', 'email', 'name', 'password_hash', 'session_generation'] as const;
+const toUser = (r: Pick<UserRow, (typeof COLUMNS)[number]>): UserAccount => ({
 	id: Number(r.id),
-	email: r.email as string,
-	name: r.name as string,
-	passwordHash: r.password_hash as string | null,
-	sessionGeneration: Number(r.session_generation)
+	email: r.email,
+	name: r.name,
+	passwordHash: r.password_hash,
+	sessionGeneration: r.session_generation
 });
 
-export async function findUserByEmail(knex: Knex, email: string): Promise<UserRow | undefined> {
+export async function findUserByEmail(knex: Knex, email: string): Promise<UserAccount | undefined> {
 	const r = await knex('public.users')
 		.whereRaw('lower(email) = lower(?)', [email.trim()])
-		.first(COLUMNS);
+		.first([...COLUMNS]);
 	return r ? toUser(r) : undefined;
 }
 
-export async function findUserById(knex: Knex, id: number): Promise<UserRow | undefined> {
-	const r = await knex('public.users').where({ id }).first(COLUMNS);
+export async function findUserById(knex: Knex, id: number): Promise<UserAccount | undefined> {
+	const r = await knex('public.users')
+		.where({ id })
+		.first([...COLUMNS]);
 	return r ? toUser(r) : undefined;
 }
 

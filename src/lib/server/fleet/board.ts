@@ -1,4 +1,5 @@
 import type { Knex } from 'knex';
+import { iso } from '../db/convert';
 import { DEFAULT_POLICY } from '$lib/offsets';
 import type { FleetBoard, FleetMachine, Health, LastCheck } from '$lib/fleet';
 import { boardVerification } from '../readbacks/status';
@@ -164,7 +165,6 @@ export async function fleetBoard(
 	return { machines: rows, lastCheck, generatedAt: now.toISOString() };
 }
 
-const iso = (v: unknown) => new Date(v as string).toISOString();
 const plural = (n: number, one: string, many = `${one}s`) => `${n} ${n === 1 ? one : many}`;
 
 /** Worst first: Not measured, Stop, Stale, Caution, OK — with a short reason in plain words. */

@@ -3,11 +3,11 @@ import type { Finding } from '$lib/offsets';
 import { db } from '../db';
 import { withShop } from '../db/tenant';
 import { machineState, toMachineRecord } from '../offsets/machine-state';
-import type { ShopRow } from '../shops/queries';
+import type { ShopInfo } from '../shops/queries';
 import { readbackFindings, readbackHours } from '../readbacks/findings';
 
 /**
- * The background offset check of one shop (issue 7): the engine's `checkOffsets` (through
+ * The background offset check of one shop (nightly, or "Check now"): the engine's `checkOffsets` (through
  * machineState) over every active machine, stored as findings.
  *
  * Idempotent by construction:
@@ -45,7 +45,7 @@ export const findingRowKey = (machineId: number, f: Pick<Finding, 'key'>) =>
 	`m${machineId}|${f.key}`;
 
 export async function runShopCheck(
-	shop: ShopRow,
+	shop: ShopInfo,
 	run: CheckRun,
 	knex: Knex = db()
 ): Promise<CheckSummary> {
@@ -87,7 +87,7 @@ export async function runShopCheck(
 				const state = await machineState(trx, machine, checkedAt);
 				const names = new Map<string, string>();
 				for (const s of state.checkInput.setups ?? []) if (s.id && s.name) names.set(s.id, s.name);
-				// Read-backs at the control (issue 16): mismatches and registers not verified in time.
+				// Read-backs at the control: mismatches and registers not verified in time.
 				const readback = await readbackFindings(
 					trx,
 					machine,
@@ -131,7 +131,7 @@ export async function runShopCheck(
 
 /** Marks the run failed (the job will be retried or has given up). */
 export async function markCheckFailed(
-	shop: ShopRow,
+	shop: ShopInfo,
 	jobId: string,
 	message: string,
 	knex: Knex = db()

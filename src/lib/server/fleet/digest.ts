@@ -6,7 +6,7 @@ import { db } from '../db';
 import { withShop } from '../db/tenant';
 import { renderEmail, type EmailPart } from '../email/layout';
 import { sendEmail } from '../email/send';
-import type { ShopRow } from '../shops/queries';
+import type { ShopInfo } from '../shops/queries';
 import { localDate } from './check';
 
 /** Roles that get the morning digest (DESIGN.md §6: those who act on findings). */
@@ -43,7 +43,7 @@ export interface DigestResult {
  * others were tried, so the job's retry (with backoff) sends only the missing ones.
  */
 export async function sendDigests(
-	shop: ShopRow & { slug: string; name: string },
+	shop: ShopInfo & { slug: string; name: string },
 	checkedAt: Date,
 	knex: Knex = db()
 ): Promise<DigestResult> {

@@ -1,8 +1,10 @@
 import type { Knex } from 'knex';
+import { iso, isoOrNull } from '../db/convert';
+import type { FindingRow } from '../db/tables';
 import type { FindingFilter } from '$lib/schemas/fleet';
 import { audit } from '../audit';
 
-export interface FindingRow {
+export interface FindingListItem {
 	id: number;
 	machineId: number | null;
 	machineName: string | null;
@@ -23,14 +25,18 @@ export interface FindingRow {
 	previousId: number | null;
 }
 
-const iso = (v: unknown) => (v ? new Date(v as string).toISOString() : null);
+type ListedFinding = FindingRow & {
+	machine_name: string | null;
+	acknowledged_by_name: string | null;
+	resolved_by_name: string | null;
+};
 
 /** Findings with the filter, stop first, newest first; at most `limit`. `trx` is a shop transaction. */
 export async function listFindings(
 	trx: Knex.Transaction,
 	filter: FindingFilter,
 	limit = 500
-): Promise<FindingRow[]> {
+): Promise<FindingListItem[]> {
 	const rows = await trx('findings as f')
 		.leftJoin('machines as m', 'm.id', 'f.machine_id')
 		.leftJoin('public.users as ua', 'ua.id', 'f.acknowledged_by')
@@ -51,23 +57,22 @@ export async function listFindings(
 			'ua.name as acknowledged_by_name',
 			'ur.name as resolved_by_name'
 		);
-	// eslint-disable-next-line @typescript-eslint/no-explicit-any
-	return rows.map((r: Record<string, any>) => ({
+	return rows.map((r: ListedFinding) => ({
 		id: Number(r.id),
 		machineId: r.machine_id === null ? null : Number(r.machine_id),
 		machineName: r.machine_name ?? null,
 		kind: r.kind,
-		severity: r.severity,
+		severity: r.severity as FindingListItem['severity'],
 		subjectType: r.subject_type,
 		subject: r.subject,
 		message: r.message,
-		status: r.status,
-		firstSeenAt: iso(r.first_seen_at)!,
-		lastSeenAt: iso(r.last_seen_at)!,
+		status: r.status as FindingListItem['status'],
+		firstSeenAt: iso(r.first_seen_at),
+		lastSeenAt: iso(r.last_seen_at),
 		acknowledgedBy: r.acknowledged_by_name ?? null,
-		acknowledgedAt: iso(r.acknowledged_at),
+		acknowledgedAt: isoOrNull(r.acknowledged_at),
 		resolvedBy: r.resolved_by_name ?? (r.status === 'resolved' ? 'the check' : null),
-		resolvedAt: iso(r.resolved_at),
+		resolvedAt: isoOrNull(r.resolved_at),
 		comment: r.comment,
 		previousId: r.previous_finding_id === null ? null : Number(r.previous_finding_id)
 	}));
@@ -133,7 +138,7 @@ export async function findingHistory(
 		(out[id] ??= []).push({
 			action: r.action === 'finding.acknowledge' ? 'Acknowledged' : 'Resolved',
 			by: r.name ?? r.actor_email,
-			at: new Date(r.at).toISOString(),
+			at: iso(r.at),
 			comment: String(detail.comment ?? '')
 		});
 	}

@@ -1,4 +1,6 @@
 import type { Knex } from 'knex';
+import { iso } from '../db/convert';
+import type { MachineRow } from '../db/tables';
 
 export interface MachineSummary {
 	id: number;
@@ -61,11 +63,28 @@ export async function listMachineSummaries(trx: Knex.Transaction): Promise<Machi
 		controlStyle: r.control_style,
 		toolCount: r.tool_count,
 		fixtureCount: r.fixture_count,
-		lastReadingAt: r.last_reading_at ? new Date(r.last_reading_at).toISOString() : null,
+		lastReadingAt: r.last_reading_at ? iso(r.last_reading_at) : null,
 		referenceVersion: r.reference_version ?? null,
-		referenceEstablishedAt: r.reference_established_at
-			? new Date(r.reference_established_at).toISOString()
-			: null,
+		referenceEstablishedAt: r.reference_established_at ? iso(r.reference_established_at) : null,
 		runningSetup: r.running_setup ?? null
 	}));
+}
+
+/** Active machines by name, for filters and pickers. `trx` is a shop transaction. */
+export async function machineChoices(
+	trx: Knex.Transaction
+): Promise<{ id: number; name: string }[]> {
+	const rows: Pick<MachineRow, 'id' | 'name'>[] = await trx('machines')
+		.whereNull('archived_at')
+		.orderBy('name')
+		.select('id', 'name');
+	return rows.map((m) => ({ id: Number(m.id), name: m.name }));
+}
+
+/** Whether any reading was taken on the machine (its units are then fixed). */
+export async function machineHasReadings(
+	trx: Knex.Transaction,
+	machineId: number
+): Promise<boolean> {
+	return !!(await trx('readings').where({ machine_id: machineId }).first('id'));
 }

@@ -1,4 +1,5 @@
 import type { Knex } from 'knex';
+import { iso } from '../db/convert';
 import { shopPolicy } from '../shops/settings';
 import {
 	checkOffsets,
@@ -58,7 +59,6 @@ export interface CurrentOffset {
 }
 
 const num = (v: unknown) => (v === null || v === undefined ? null : Number(v));
-const iso = (v: unknown) => new Date(v as string).toISOString();
 
 export function toMachineRecord(r: Record<string, unknown>): MachineRecord {
 	return {

@@ -6,11 +6,13 @@ import {
 	registerStatus,
 	type Finding
 } from '$lib/offsets';
+import type { FixtureRow, ToolRow } from '../db/tables';
 import { machineState, type MachineRecord } from './machine-state';
 
 export type RowStatus = 'ok' | 'caution' | 'stop' | 'stale' | 'unset';
 
-export interface ToolRow {
+/** One tool of the machine page's rack: its current offset, status and findings. */
+export interface ToolOverview {
 	id: number;
 	t: number;
 	h: number;
@@ -24,7 +26,8 @@ export interface ToolRow {
 	findings: Pick<Finding, 'kind' | 'severity' | 'message'>[];
 }
 
-export interface FixtureRow {
+/** One work offset (fixture) of the machine page: its current offset, status and findings. */
+export interface FixtureOverview {
 	id: number;
 	register: string;
 	name: string;
@@ -54,11 +57,11 @@ export async function machineOverview(
 	now = new Date()
 ) {
 	const state = await machineState(trx, machine, now);
-	const tools = await trx('tools')
+	const tools = await trx<ToolRow>('tools')
 		.where({ machine_id: machine.id })
 		.whereNull('archived_at')
 		.orderBy('t_number');
-	const fixtures = await trx('fixtures')
+	const fixtures = await trx<FixtureRow>('fixtures')
 		.where({ machine_id: machine.id })
 		.whereNull('archived_at')
 		.orderBy('register');
@@ -68,7 +71,7 @@ export async function machineOverview(
 	const fixtureFindings = (register: string) =>
 		state.findings.filter((f) => concernsWork(f, register));
 
-	const toolRows: ToolRow[] = tools.map((t) => {
+	const toolRows: ToolOverview[] = tools.map((t) => {
 		const o = current.get(`tool:${t.h_number}`);
 		const fs = toolFindings(t.h_number);
 		return {
@@ -85,7 +88,7 @@ export async function machineOverview(
 			findings: fs.map(brief)
 		};
 	});
-	const fixtureRows: FixtureRow[] = fixtures.map((f) => {
+	const fixtureRows: FixtureOverview[] = fixtures.map((f) => {
 		const o = current.get(`work:${f.register}`);
 		const fs = fixtureFindings(f.register);
 		return {

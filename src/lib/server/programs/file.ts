@@ -1,4 +1,5 @@
 import { createHash } from 'node:crypto';
+import { formatBytes } from '$lib/format';
 
 /** Largest program we take (bytes). The production server's BODY_SIZE_LIMIT must be above it. */
 export const PROGRAM_MAX_BYTES = 20 * 1024 * 1024;
@@ -8,9 +9,6 @@ export const BACKGROUND_MIN_LINES = 50_000;
 /** File name endings we take, as CAM post-processors write them (common shop practice). */
 export const PROGRAM_EXTENSIONS = ['nc', 'ngc', 'tap', 'txt'] as const;
 export type ProgramExtension = (typeof PROGRAM_EXTENSIONS)[number];
-
-export const mb = (bytes: number) =>
-	bytes < 1024 * 1024 ? `${Math.ceil(bytes / 1024)} KB` : `${(bytes / 1048576).toFixed(1)} MB`;
 
 /** Lines as the program check counts them: LF, CRLF and a lone CR each end one. */
 export function countLines(text: string): number {
@@ -67,7 +65,7 @@ export async function checkProgramFile(file: unknown): Promise<ProgramFileCheck>
 	if (!(file instanceof File) || (file.size === 0 && !file.name)) {
 		return {
 			ok: false,
-			message: `Program: choose a .nc, .ngc, .tap or .txt file to upload (up to ${mb(PROGRAM_MAX_BYTES)}).`
+			message: `Program: choose a .nc, .ngc, .tap or .txt file to upload (up to ${formatBytes(PROGRAM_MAX_BYTES)}).`
 		};
 	}
 	const name = (file.name || 'the file').slice(0, 200);
@@ -82,7 +80,7 @@ export async function checkProgramFile(file: unknown): Promise<ProgramFileCheck>
 	if (file.size > PROGRAM_MAX_BYTES) {
 		return {
 			ok: false,
-			message: `"${name}" is ${mb(file.size)}; programs can be ${mb(PROGRAM_MAX_BYTES)} at most. Split it at a tool change and upload the parts.`
+			message: `"${name}" is ${formatBytes(file.size)}; programs can be ${formatBytes(PROGRAM_MAX_BYTES)} at most. Split it at a tool change and upload the parts.`
 		};
 	}
 	const bytes = new Uint8Array(await file.arrayBuffer());

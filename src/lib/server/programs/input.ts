@@ -7,7 +7,7 @@ import {
 	type RegisterState
 } from '$lib/offsets';
 import { engineMachine, machineState } from '../offsets/machine-state';
-import { engineSetupFor, type SetupDetail } from '../setups/queries';
+import { engineSetupFor, type SetupDetail } from '../setups/detail';
 
 /**
  * What a check was run against, stored with it (program_checks.input): the engine's setup and,

@@ -1,7 +1,7 @@
 import { error } from '@sveltejs/kit';
 import type { Knex } from 'knex';
 import { setupFromParam } from '../setups/load';
-import type { SetupDetail } from '../setups/queries';
+import type { SetupDetail } from '../setups/detail';
 import {
 	getCheck,
 	getProgram,

@@ -5,7 +5,7 @@ import type { Knex } from 'knex';
 import { audit } from '../audit';
 import { afterTransaction } from '../db/after-transaction';
 import { storagePath } from '../setups/photos';
-import type { SetupDetail } from '../setups/queries';
+import type { SetupDetail } from '../setups/detail';
 import type { Actor } from '../setups/write';
 import { checksInBackground, checkProgramFile, countLines, programNameFrom } from './file';
 import { programSetupFor, type CheckInput } from './input';

@@ -9,7 +9,7 @@ import type { CheckInput } from './input';
 /** How fresh a register's value is, as the badges say it. */
 export type Freshness = 'ok' | 'stale' | 'unset' | 'unknown';
 
-export interface WorkOffsetRow {
+export interface WorkOffsetSummary {
 	register: string;
 	value: number | null;
 	measuredAt: string | null;
@@ -19,7 +19,7 @@ export interface WorkOffsetRow {
 	states: RegisterState[];
 }
 
-export interface ToolRow {
+export interface ToolSummary {
 	t: string;
 	h: string;
 	description: string;
@@ -37,8 +37,8 @@ export interface CheckSummary {
 	resolution: number;
 	lines: number;
 	moves: number;
-	work: WorkOffsetRow[];
-	tools: ToolRow[];
+	work: WorkOffsetSummary[];
+	tools: ToolSummary[];
 	clearanceHeight: number;
 	clearancePlanes: Record<string, number>;
 	stops: number;

@@ -1,5 +1,7 @@
 /** Reading past read-backs (newest first) and the values of one. `trx` is a shop transaction. */
 import type { Knex } from 'knex';
+import { iso } from '../db/convert';
+import type { FixtureRow, ReadbackValueRow, ToolRow } from '../db/tables';
 
 export interface ReadbackSummary {
 	id: number;
@@ -13,7 +15,7 @@ export interface ReadbackSummary {
 	note: string;
 }
 
-export interface ReadbackValueRow {
+export interface ReadbackValueLine {
 	kind: 'work' | 'tool' | 'wear' | 'other';
 	register: string;
 	value: number | null;
@@ -41,7 +43,7 @@ export async function listReadbacks(
 		.select('r.*', 'u.name as taken_by_name');
 	return rows.map((r) => ({
 		id: Number(r.id),
-		takenAt: new Date(r.taken_at).toISOString(),
+		takenAt: iso(r.taken_at),
 		source: r.source,
 		fileName: r.file_name,
 		takenBy: r.taken_by_name ?? null,
@@ -55,15 +57,47 @@ export async function listReadbacks(
 export async function readbackValues(
 	trx: Knex.Transaction,
 	readbackId: number
-): Promise<ReadbackValueRow[]> {
-	const rows = await trx('readback_values').where({ readback_id: readbackId }).orderBy('id');
+): Promise<ReadbackValueLine[]> {
+	const rows = await trx<ReadbackValueRow>('readback_values')
+		.where({ readback_id: readbackId })
+		.orderBy('id');
 	return rows.map((r) => ({
-		kind: r.register_kind,
+		kind: r.register_kind as ReadbackValueLine['kind'],
 		register: r.register,
 		value: num(r.value),
 		expected: num(r.expected),
-		status: r.status,
+		status: r.status as ReadbackValueLine['status'],
 		causes: typeof r.causes === 'string' ? JSON.parse(r.causes) : r.causes,
 		noPointText: r.no_point_text
 	}));
+}
+
+/** Whether read-back `id` was taken on this machine (the URL may name another machine's). */
+export async function isMachineReadback(
+	trx: Knex.Transaction,
+	machineId: number,
+	id: number
+): Promise<boolean> {
+	return !!(await trx('readbacks').where({ id, machine_id: machineId }).first('id'));
+}
+
+/**
+ * What each register is called on this machine, for the read-back grid: work offsets by their
+ * active fixture's name, H numbers by their tool ("T3 10 mm end mill"), archived tools included.
+ */
+export async function registerNames(
+	trx: Knex.Transaction,
+	machineId: number
+): Promise<{ work: Map<string, string>; tool: Map<string, string> }> {
+	const fixtures: Pick<FixtureRow, 'register' | 'name'>[] = await trx('fixtures')
+		.where({ machine_id: machineId })
+		.whereNull('archived_at')
+		.select('register', 'name');
+	const tools: Pick<ToolRow, 'h_number' | 't_number' | 'description'>[] = await trx('tools')
+		.where({ machine_id: machineId })
+		.select('h_number', 't_number', 'description');
+	return {
+		work: new Map(fixtures.map((f) => [f.register, f.name])),
+		tool: new Map(tools.map((t) => [String(t.h_number), `T${t.t_number} ${t.description}`]))
+	};
 }

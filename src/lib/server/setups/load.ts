@@ -1,6 +1,6 @@
 import { error } from '@sveltejs/kit';
 import type { Knex } from 'knex';
-import { getSetupDetail, setupTable, type SetupDetail } from './queries';
+import { getSetupDetail, setupTable, type SetupDetail } from './detail';
 import { buildLoadProgram, fileSlug, type LoadProgramResult } from './load-program';
 
 /** The setup named in the URL, or 404 (also for another shop's id: the schema has no such row). */

@@ -2,6 +2,7 @@ import { randomUUID } from 'node:crypto';
 import { mkdir, readFile, rm, writeFile } from 'node:fs/promises';
 import { dirname, resolve, sep } from 'node:path';
 import type { Knex } from 'knex';
+import { formatBytes } from '$lib/format';
 import { config } from '../config';
 import { audit } from '../audit';
 import type { Actor } from './write';
@@ -17,8 +18,6 @@ export const PHOTO_TYPES = {
 	'image/webp': 'webp'
 } as const;
 export type PhotoType = keyof typeof PHOTO_TYPES;
-
-const mb = (bytes: number) => `${(bytes / 1024 / 1024).toFixed(1)} MB`;
 
 /**
  * The image type from the file's first bytes (its name and the browser's claim can lie):
@@ -60,7 +59,7 @@ export async function checkPhoto(file: unknown): Promise<PhotoCheck> {
 	if (file.size > PHOTO_MAX_BYTES) {
 		return {
 			ok: false,
-			message: `"${name}" is ${mb(file.size)}; photos can be ${PHOTO_MAX_BYTES / 1024 / 1024} MB at most. Take it at a lower resolution or crop it.`
+			message: `"${name}" is ${formatBytes(file.size)}; photos can be ${PHOTO_MAX_BYTES / 1024 / 1024} MB at most. Take it at a lower resolution or crop it.`
 		};
 	}
 	const bytes = new Uint8Array(await file.arrayBuffer());

@@ -1,4 +1,5 @@
 import type { Knex } from 'knex';
+import { iso } from '../db/convert';
 import type { SetupSignoff } from '$lib/schemas/setups';
 import { audit } from '../audit';
 
@@ -32,7 +33,7 @@ export async function latestSignoff(
 		firstPartBy: r.first_part_by,
 		firstPartOn: day(r.first_part_on),
 		note: r.note,
-		recordedAt: new Date(r.recorded_at).toISOString(),
+		recordedAt: iso(r.recorded_at),
 		recordedByName: r.recorded_by_name ?? null
 	};
 }

@@ -1,16 +1,14 @@
 import type { Knex } from 'knex';
 import {
 	EDITABLE_STATES,
-	NEXT_STATE,
 	SETUP_STATE_LABEL,
 	type SetupForm,
 	type SetupState
 } from '$lib/schemas/setups';
 import { audit } from '../audit';
-import { latestSignoff } from './signoff';
 import { getMachine } from '../offsets/machine-state';
 
-/** `trx` is always a shop transaction (withShop). */
+/** Creating and editing setups. `trx` is always a shop transaction (withShop). */
 
 export interface Actor {
 	id: number;
@@ -213,146 +211,4 @@ export async function updateSetup(
 		detail: { name: input.name, machine: machineName }
 	});
 	return { ok: true, value: setupId };
-}
-
-/** What a setup holds, in the form's shape (for editing and copying). */
-export async function setupAsForm(
-	trx: Knex.Transaction,
-	setupId: number
-): Promise<SetupForm | undefined> {
-	const s = await trx('setups').where({ id: setupId }).first();
-	if (!s) return undefined;
-	const fixtures = await trx('setup_fixtures')
-		.where({ setup_id: setupId })
-		.orderBy('id')
-		.select('fixture_id', 'obstacle_height');
-	const tools = await trx('setup_tools').where({ setup_id: setupId }).orderBy('id');
-	const ops = await trx('setup_ops').where({ setup_id: setupId }).orderBy('sequence');
-	return {
-		machineId: Number(s.machine_id),
-		name: s.name,
-		job: s.job,
-		clearanceMargin: Number(s.clearance_margin),
-		fixtures: fixtures.map((f) => ({
-			fixtureId: Number(f.fixture_id),
-			obstacleHeight: Number(f.obstacle_height)
-		})),
-		toolIds: tools.map((t) => Number(t.tool_id)),
-		ops: ops.map((o) => ({
-			name: o.name,
-			fixtureId: o.fixture_id === null ? 0 : Number(o.fixture_id),
-			notes: o.notes
-		}))
-	};
-}
-
-/**
- * A new planned setup with the same machine, fixtures, heights, tools and ops (not photos or
- * history). Fixtures or tools archived since are left out and named in `dropped`.
- */
-export async function copySetup(
-	trx: Knex.Transaction,
-	setupId: number,
-	name: string,
-	actor: Actor
-): Promise<WriteResult<{ id: number; dropped: string[] }>> {
-	const form = await setupAsForm(trx, setupId);
-	if (!form) return { ok: false, issues: [{ field: 'name', message: 'No such setup.' }] };
-	const liveFx = new Set(
-		(
-			await trx('fixtures')
-				.where({ machine_id: form.machineId })
-				.whereNull('archived_at')
-				.select('id')
-		).map((r) => Number(r.id))
-	);
-	const liveTools = new Set(
-		(
-			await trx('tools').where({ machine_id: form.machineId }).whereNull('archived_at').select('id')
-		).map((r) => Number(r.id))
-	);
-	const dropped: string[] = [];
-	const fixtures = form.fixtures.filter((f) => liveFx.has(f.fixtureId));
-	const toolIds = form.toolIds.filter((t) => liveTools.has(t));
-	for (const f of form.fixtures)
-		if (!liveFx.has(f.fixtureId)) dropped.push(`fixture ${f.fixtureId}`);
-	for (const t of form.toolIds) if (!liveTools.has(t)) dropped.push(`tool ${t}`);
-	const ops = form.ops.map((o) => ({ ...o, fixtureId: liveFx.has(o.fixtureId) ? o.fixtureId : 0 }));
-	if (fixtures.length === 0) {
-		return {
-			ok: false,
-			issues: [
-				{
-					field: 'name',
-					message: 'Every fixture of that setup has been archived: nothing to copy onto.'
-				}
-			]
-		};
-	}
-	const created = await createSetup(
-		trx,
-		{ ...form, name, fixtures, toolIds, ops },
-		actor,
-		`copied from setup ${setupId}`
-	);
-	return created.ok ? { ok: true, value: { id: created.value, dropped } } : created;
-}
-
-/**
- * Moves a setup one step forward (planned → on-machine → proven → closed), or closes it from
- * any open state (a plan dropped). Recorded with who and when, in the status history and the
- * shop's audit log.
- */
-export async function changeSetupStatus(
-	trx: Knex.Transaction,
-	setupId: number,
-	to: SetupState,
-	actor: Actor,
-	note = ''
-): Promise<WriteResult<SetupState>> {
-	const current = await trx('setups').where({ id: setupId }).forUpdate().first();
-	if (!current) return { ok: false, issues: [{ field: 'to', message: 'No such setup.' }] };
-	const from = current.status as SetupState;
-	const allowed = NEXT_STATE[from] === to || (to === 'closed' && from !== 'closed');
-	if (!allowed) {
-		const next = NEXT_STATE[from];
-		return {
-			ok: false,
-			issues: [
-				{
-					field: 'to',
-					message: `A setup that is ${SETUP_STATE_LABEL[from].toLowerCase()} cannot become ${SETUP_STATE_LABEL[to].toLowerCase()}${next ? `: next is ${SETUP_STATE_LABEL[next].toLowerCase()}` : ': it is closed; copy it to run the job again'}.`
-				}
-			]
-		};
-	}
-	// Proven means someone entered, verified at the control and checked the first part: signed off.
-	if (to === 'proven' && !(await latestSignoff(trx, setupId))) {
-		return {
-			ok: false,
-			issues: [
-				{
-					field: 'to',
-					message:
-						'A setup becomes proven only with its sign-off: record who entered the offsets, who verified them at the control and who checked the first part.'
-				}
-			]
-		};
-	}
-	await trx('setups').where({ id: setupId }).update({ status: to });
-	await trx('setup_status_changes').insert({
-		setup_id: setupId,
-		from_status: from,
-		to_status: to,
-		changed_by: actor.id,
-		note
-	});
-	await audit(trx, {
-		actorUserId: actor.id,
-		actorEmail: actor.email,
-		action: 'setup.status',
-		target: `setup ${setupId}`,
-		detail: { name: current.name, from, to, note }
-	});
-	return { ok: true, value: to };
 }

@@ -1,8 +1,10 @@
 import type { Knex } from 'knex';
+import { isoOrNull } from '../db/convert';
 import type { Role } from '$lib/permissions';
+import type { ShopRow } from '../db/tables';
 import type { ShopRef } from '../db/tenant';
 
-export interface ShopRow extends ShopRef {
+export interface ShopInfo extends ShopRef {
 	slug: string;
 	name: string;
 	timeZone: string;
@@ -11,25 +13,22 @@ export interface ShopRow extends ShopRef {
 }
 
 export interface MembershipView {
-	shop: ShopRow;
+	shop: ShopInfo;
 	role: Role;
 }
 
-function toShop(r: {
-	id: string | number;
-	slug: string;
-	name: string;
-	schema_name: string;
-	time_zone: string;
-	purge_after?: Date | string | null;
-}): ShopRow {
+/** A member's shop always has its schema (purging removes the memberships with it). */
+function toShop(
+	r: Pick<ShopRow, 'id' | 'slug' | 'name' | 'time_zone'> &
+		Partial<Pick<ShopRow, 'purge_after'>> & { schema_name: string }
+): ShopInfo {
 	return {
 		id: Number(r.id),
 		slug: r.slug,
 		name: r.name,
 		schemaName: r.schema_name,
 		timeZone: r.time_zone,
-		deletionPurgeAfter: r.purge_after ? new Date(r.purge_after).toISOString() : null
+		deletionPurgeAfter: isoOrNull(r.purge_after)
 	};
 }
 

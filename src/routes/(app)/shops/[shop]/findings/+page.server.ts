@@ -11,6 +11,7 @@ import { clientAddress } from '$lib/server/auth/client-address';
 import { db } from '$lib/server/db';
 import { withShop } from '$lib/server/db/tenant';
 import { DIGEST_ROLES } from '$lib/server/fleet/digest';
+import { receivesDigest, setReceivesDigest } from '$lib/server/fleet/digest-preference';
 import {
 	actOnFinding,
 	findingHistory,
@@ -18,6 +19,7 @@ import {
 	type FindingAction
 } from '$lib/server/fleet/findings';
 import { requireMember } from '$lib/server/guard';
+import { machineChoices } from '$lib/server/machines/queries';
 import type { Actions, PageServerLoad, RequestEvent } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -27,7 +29,7 @@ export const load: PageServerLoad = async (event) => {
 		const findings = await listFindings(trx, filter);
 		return {
 			findings,
-			machines: await trx('machines').whereNull('archived_at').orderBy('name').select('id', 'name'),
+			machines: await machineChoices(trx),
 			history: await findingHistory(
 				trx,
 				findings.map((f) => f.id)
@@ -35,18 +37,13 @@ export const load: PageServerLoad = async (event) => {
 		};
 	});
 	const getsDigest = (DIGEST_ROLES as readonly string[]).includes(role);
-	const membership = getsDigest
-		? await db()('public.memberships')
-				.where({ user_id: user.id, shop_id: shop.id })
-				.first('digest_opt_out')
-		: undefined;
 	return {
 		filter,
 		findings,
 		history,
-		machines: machines.map((m) => ({ id: Number(m.id), name: m.name as string })),
+		machines,
 		canAct: can(role, 'findings.acknowledge'),
-		digest: getsDigest ? { receive: !membership?.digest_opt_out } : null,
+		digest: getsDigest ? { receive: await receivesDigest(db(), user.id, shop.id) } : null,
 		actionForm: await superValidate(zod4(findingActionSchema), { id: 'finding-action' })
 	};
 };
@@ -74,9 +71,7 @@ export const actions: Actions = {
 		const form = await superValidate(data, zod4(digestPreferenceSchema));
 		// A missing choice would otherwise default to the first one.
 		if (!form.valid || !data.has('receive')) return fail(400, { form });
-		await db()('public.memberships')
-			.where({ user_id: user.id, shop_id: shop.id })
-			.update({ digest_opt_out: form.data.receive === 'no' });
+		await setReceivesDigest(db(), user.id, shop.id, form.data.receive !== 'no');
 		return message(
 			form,
 			form.data.receive === 'no'

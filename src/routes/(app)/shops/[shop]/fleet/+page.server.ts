@@ -8,6 +8,7 @@ import { clientAddress } from '$lib/server/auth/client-address';
 import { db } from '$lib/server/db';
 import { withShop } from '$lib/server/db/tenant';
 import { fleetBoard } from '$lib/server/fleet/board';
+import { readCheckHour, saveCheckHour } from '$lib/server/fleet/check-hour';
 import { boardAges } from '$lib/server/shops/settings';
 import { requireMember } from '$lib/server/guard';
 import { ChecksPausedError, enqueueCheckNow, rescheduleShop } from '$lib/server/queues/shop-checks';
@@ -18,13 +19,13 @@ export const load: PageServerLoad = async (event) => {
 	const board = await withShop(shop, async (trx) =>
 		fleetBoard(trx, new Date(), await boardAges(trx, shop.id))
 	);
-	const { check_hour } = await db()('public.shops').where({ id: shop.id }).first('check_hour');
+	const checkHour = await readCheckHour(db(), shop.id);
 	return {
 		board,
-		checkHour: Number(check_hour),
+		checkHour,
 		timeZone: shop.timeZone,
 		canAct: can(role, 'findings.acknowledge'),
-		hourForm: await superValidate({ hour: Number(check_hour) }, zod4(checkHourSchema), {
+		hourForm: await superValidate({ hour: checkHour }, zod4(checkHourSchema), {
 			id: 'check-hour'
 		})
 	};
@@ -64,17 +65,7 @@ export const actions: Actions = {
 		if (!data.get('hour')) return setError(form, 'hour', 'Pick an hour from 00 to 23.');
 		if (!form.valid) return fail(400, { form });
 		const hour = form.data.hour;
-		await db()('public.shops').where({ id: shop.id }).update({ check_hour: hour });
-		await withShop(shop, (trx) =>
-			audit(trx, {
-				actorUserId: user.id,
-				actorEmail: user.email,
-				action: 'check.schedule',
-				target: `shop:${shop.id}`,
-				detail: { hour, timeZone: shop.timeZone },
-				ip: clientAddress(event)
-			})
-		);
+		await saveCheckHour(db(), shop, hour, user, clientAddress(event));
 		const moved = await rescheduleShop({ id: shop.id, checkHour: hour, timeZone: shop.timeZone });
 		const at = `${String(hour).padStart(2, '0')}:00`;
 		return message(

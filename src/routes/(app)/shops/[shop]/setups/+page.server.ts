@@ -2,6 +2,7 @@ import { can } from '$lib/permissions';
 import { SETUP_STATES, type SetupState } from '$lib/schemas/setups';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
+import { machineChoices } from '$lib/server/machines/queries';
 import { listSetups } from '$lib/server/setups/queries';
 import type { PageServerLoad } from './$types';
 
@@ -16,14 +17,11 @@ export const load: PageServerLoad = async (event) => {
 			: null
 	};
 	return withShop(shop, async (trx) => {
-		const machines = await trx('machines')
-			.whereNull('archived_at')
-			.orderBy('name')
-			.select('id', 'name');
+		const machines = await machineChoices(trx);
 		const setups = await listSetups(trx, filter);
 		return {
 			setups,
-			machines: machines.map((m) => ({ id: Number(m.id), name: m.name as string })),
+			machines,
 			filter,
 			canCreate: can(role, 'setups.write')
 		};

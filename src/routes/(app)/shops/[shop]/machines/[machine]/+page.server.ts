@@ -4,6 +4,7 @@ import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
 import { machineOverview } from '$lib/server/offsets/overview';
 import { machineVerification } from '$lib/server/readbacks/status';
+import { recentMachineSetups } from '$lib/server/setups/queries';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -11,11 +12,7 @@ export const load: PageServerLoad = async (event) => {
 	return withShop(shop, async (trx) => {
 		const machine = await machineFromParam(trx, event.params.machine);
 		const overview = await machineOverview(trx, machine);
-		const setups = await trx('setups')
-			.where({ machine_id: machine.id })
-			.orderBy('created_at', 'desc')
-			.limit(10)
-			.select('id', 'name', 'job', 'status');
+		const setups = await recentMachineSetups(trx, machine.id);
 		const verification = await machineVerification(trx, machine.id);
 		return {
 			machine,
@@ -23,7 +20,7 @@ export const load: PageServerLoad = async (event) => {
 			tools: overview.toolRows,
 			fixtures: overview.fixtureRows,
 			machineFindings: overview.machineFindings,
-			setups: setups.map((s) => ({ id: Number(s.id), name: s.name, job: s.job, status: s.status })),
+			setups,
 			atControl: {
 				verified: verification.filter((v) => v.state === 'verified').length,
 				mismatched: verification

@@ -23,7 +23,9 @@ import { latestSignoff, recordSignoff } from '$lib/server/setups/signoff';
 import { setupFromParam, setupLoadProgram } from '$lib/server/setups/load';
 import { addSetupPhoto, PHOTO_MAX_BYTES, removeSetupPhoto } from '$lib/server/setups/photos';
 import { setupChoices } from '$lib/server/setups/queries';
-import { changeSetupStatus, copySetup, setupAsForm, updateSetup } from '$lib/server/setups/write';
+import { copySetup, setupAsForm } from '$lib/server/setups/copy';
+import { changeSetupStatus } from '$lib/server/setups/status';
+import { updateSetup } from '$lib/server/setups/write';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {

@@ -1,6 +1,6 @@
 import { json } from '@sveltejs/kit';
-import type { CheckProgress } from '$lib/fleet';
 import { withShop } from '$lib/server/db/tenant';
+import { checkProgressOf, findCheckRun, recentCheckRuns } from '$lib/server/fleet/check-runs';
 import { requireMember } from '$lib/server/guard';
 import { jobProgress } from '$lib/server/queues/shop-checks';
 import type { RequestHandler } from './$types';
@@ -13,38 +13,16 @@ export const GET: RequestHandler = async (event) => {
 	const { shop } = await requireMember(event, 'findings.read');
 	const jobId = event.url.searchParams.get('job');
 	const { runs, row } = await withShop(shop, async (trx) => ({
-		runs: await trx('check_runs').orderBy('started_at', 'desc').limit(10).select('*'),
-		row: jobId ? await trx('check_runs').where({ job_id: jobId }).first() : undefined
+		runs: await recentCheckRuns(trx),
+		row: jobId ? await findCheckRun(trx, jobId) : undefined
 	}));
-	let job: CheckProgress | null = null;
-	if (jobId) {
-		const state = !row ? 'waiting' : row.status === 'running' ? 'running' : row.status;
-		const progress = state === 'running' ? await jobProgress(jobId, shop.id) : null;
-		job = {
-			jobId,
-			state,
-			machinesDone: progress?.done ?? (row?.status === 'done' ? row.machines : 0),
-			machinesTotal: progress?.total ?? (row?.status === 'done' ? row.machines : null),
-			opened: row?.opened ?? 0,
-			stillOpen: row?.still_open ?? 0,
-			resolved: row?.resolved ?? 0,
-			error: row?.error ?? ''
-		};
-	}
-	return json(
-		{
-			job,
-			runs: runs.map((r) => ({
-				jobId: r.job_id,
-				trigger: r.trigger,
-				status: r.status,
-				checkedAt: new Date(r.checked_at).toISOString(),
-				finishedAt: r.finished_at ? new Date(r.finished_at).toISOString() : null,
-				opened: r.opened,
-				stillOpen: r.still_open,
-				resolved: r.resolved
-			}))
-		},
-		{ headers: { 'cache-control': 'no-store' } }
-	);
+	// The queue's live progress only while the check runs (outside the transaction).
+	const job = jobId
+		? checkProgressOf(
+				jobId,
+				row,
+				row?.status === 'running' ? await jobProgress(jobId, shop.id) : null
+			)
+		: null;
+	return json({ job, runs }, { headers: { 'cache-control': 'no-store' } });
 };

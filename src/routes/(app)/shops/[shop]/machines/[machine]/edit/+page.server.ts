@@ -8,6 +8,7 @@ import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
 import { setMachinePhoto } from '$lib/server/machines/photo';
+import { machineHasReadings } from '$lib/server/machines/queries';
 import { updateMachine } from '$lib/server/machines/service';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -15,7 +16,6 @@ export const load: PageServerLoad = async (event) => {
 	const { shop } = await requireMember(event, 'machines.write');
 	return withShop(shop, async (trx) => {
 		const machine = await machineFromParam(trx, event.params.machine);
-		const [{ n }] = await trx('readings').where({ machine_id: machine.id }).count({ n: '*' });
 		const form = await superValidate(
 			{
 				name: machine.name,
@@ -33,7 +33,7 @@ export const load: PageServerLoad = async (event) => {
 		return {
 			machine: { id: machine.id, name: machine.name, hasPhoto: machine.hasPhoto },
 			form,
-			unitsLocked: Number(n) > 0,
+			unitsLocked: await machineHasReadings(trx, machine.id),
 			photoMaxMb: PHOTO_MAX_BYTES / 1024 / 1024
 		};
 	});

@@ -5,15 +5,16 @@ import { readbackSchema } from '$lib/schemas/readback';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
-import { listReadbacks } from '$lib/server/readbacks/queries';
+import { listReadbacks, registerNames } from '$lib/server/readbacks/queries';
 import { recordReadback, setupRegistersOf } from '$lib/server/readbacks/record';
 import { machineVerification } from '$lib/server/readbacks/status';
+import { setupOnMachine } from '$lib/server/setups/queries';
 import { actorOf } from '$lib/server/readings/form';
 import { ReadingInputError } from '$lib/server/readings/record';
 import type { Actions, PageServerLoad, RequestEvent } from './$types';
 
 /**
- * Read back at the control (issue 16): type what the control shows in a grid laid out like its
+ * Read back at the control: type what the control shows in a grid laid out like its
  * registers, or upload its saved offset file; the comparison comes back per register. With
  * `?setup=<id>` the grid holds that setup's registers only.
  */
@@ -25,25 +26,13 @@ export const load: PageServerLoad = async (event) => {
 		let setup: { id: number; name: string } | null = null;
 		let only: { work: string[]; tools: string[] } | null = null;
 		if (setupParam !== null) {
-			const row = await trx('setups')
-				.where({ id: Number(setupParam) || 0, machine_id: machine.id })
-				.first('id', 'name');
-			if (!row) error(404, 'No such setup on this machine.');
-			setup = { id: Number(row.id), name: row.name };
+			const found = await setupOnMachine(trx, Number(setupParam) || 0, machine.id);
+			if (!found) error(404, 'No such setup on this machine.');
+			setup = found;
 			only = await setupRegistersOf(trx, setup.id);
 		}
 		const verification = await machineVerification(trx, machine.id);
-		const fixtures = await trx('fixtures')
-			.where({ machine_id: machine.id })
-			.whereNull('archived_at')
-			.select('register', 'name');
-		const tools = await trx('tools')
-			.where({ machine_id: machine.id })
-			.select('h_number', 't_number', 'description');
-		const fixtureName = new Map(fixtures.map((f) => [f.register, f.name]));
-		const toolName = new Map(
-			tools.map((t) => [String(t.h_number), `T${t.t_number} ${t.description}`])
-		);
+		const names = await registerNames(trx, machine.id);
 		const keep = (kind: 'work' | 'tool', register: string) =>
 			!only || (kind === 'work' ? only.work : only.tools).includes(register);
 		const registers = verification
@@ -54,7 +43,7 @@ export const load: PageServerLoad = async (event) => {
 					v.kind === 'tool'
 						? `H${v.register}`
 						: registerForMachine(v.register, machine.extendedAddress),
-				name: (v.kind === 'tool' ? toolName.get(v.register) : fixtureName.get(v.register)) ?? ''
+				name: names[v.kind].get(v.register) ?? ''
 			}));
 		const order = (r: { kind: string; register: string }) =>
 			r.kind === 'work'

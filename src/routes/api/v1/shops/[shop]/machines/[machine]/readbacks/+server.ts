@@ -2,7 +2,7 @@ import { error, json } from '@sveltejs/kit';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
-import { listReadbacks, readbackValues } from '$lib/server/readbacks/queries';
+import { isMachineReadback, listReadbacks, readbackValues } from '$lib/server/readbacks/queries';
 import { recordReadback } from '$lib/server/readbacks/record';
 import { machineVerification } from '$lib/server/readbacks/status';
 import { actorOf } from '$lib/server/readings/form';
@@ -34,8 +34,8 @@ export const GET: RequestHandler = async (event) => {
 		const verification = await machineVerification(trx, machine.id);
 		let values = undefined;
 		if (id !== null) {
-			const own = await trx('readbacks').where({ id, machine_id: machine.id }).first('id');
-			if (!own) error(404, 'No such read-back on this machine.');
+			if (!(await isMachineReadback(trx, machine.id, id)))
+				error(404, 'No such read-back on this machine.');
 			values = await readbackValues(trx, id);
 		}
 		return { machineId: machine.id, readbacks, verification, ...(values ? { values } : {}) };
