@@ -107,7 +107,7 @@ test('an operator reads back Mill 1 with one transposed digit, sees why, reads b
 	);
 	expect(digests.length).toBeGreaterThan(0);
 	expect(digests.map((d) => d.text).join('\n')).toMatch(
-		/H4: H4 at the control holds -14\.3014 in, but Datumkeep computed -14\.3104 in \(likely cause: two digits swapped\)/
+		/H4 — Control holds a different value: H4 at the control holds -14\.3014 in, but Datumkeep computed -14\.3104 in \(likely cause: two digits swapped\)/
 	);
 	await lead.screenshot({ path: `${shots}/readback-finding-lead.png`, fullPage: true });
 	await lead.goto(`/shops/${FERNHILL.slug}/fleet`);
