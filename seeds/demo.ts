@@ -84,7 +84,7 @@ async function seedMachine(
 			z_travel: m.zTravel,
 			resolution: m.resolution,
 			control_style: m.controlStyle,
-			// The G10 L10 form's machines have the usual 48 extended work offsets (issue 16).
+			// The G10 L10 form's machines have the usual 48 extended work offsets.
 			extended_work_offsets: m.controlStyle === 'iso' ? 48 : 0,
 			convention: m.convention,
 			notes: m.notes,

@@ -12,7 +12,7 @@ import { createShopWithOwner } from '$lib/server/shops/create';
 import { testDb, uniqueSuffix } from './db';
 
 /**
- * Billing edges (issue 18) through the app's own code and the project's fake Stripe, started
+ * Billing edges (trials kept, downgrades, banners) through the app's own code and the project's fake Stripe, started
  * here on a free port: the SDK talks to it, its pages are posted as a browser would, and the
  * events it produces are signed and handed to the same webhook entry point the route uses.
  */

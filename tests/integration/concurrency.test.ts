@@ -17,7 +17,7 @@ import {
 import { testDb, uniqueSuffix } from './db';
 import { insertTwoFixtureMill } from './two-fixture-mill';
 
-/** Issue 13: limits hold under parallel requests (each on its own connection, as in the app). */
+/** Hardening: limits hold under parallel requests (each on its own connection, as in the app). */
 const knex: Knex = testDb();
 let uploads: string;
 let shop: { id: number; schemaName: string; slug: string };

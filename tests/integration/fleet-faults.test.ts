@@ -26,7 +26,7 @@ import { processShopCheck } from '../../workers/shop-checks/processor';
 import { testDb, uniqueSuffix } from './db';
 
 /**
- * Issue 7's faults, for real: Redis goes away (a TCP proxy in front of the shared Redis is
+ * The faults the fleet checks must ride out, for real: Redis goes away (a TCP proxy in front of the shared Redis is
  * closed — the shared server itself is never stopped) and the fake SES is down (nothing
  * listens on its port until the test starts it). Also the first check of a never-checked shop,
  * which stands in for that day's nightly run so a new shop's lead gets a digest at once.

@@ -9,7 +9,7 @@ import { testDb, uniqueSuffix } from './db';
 import { linkIn, mailsTo } from './mail';
 
 /**
- * Issue 13: what ends a person's sessions (the session generation every cookie must match,
+ * Hardening: what ends a person's sessions (the session generation every cookie must match,
  * checked in hooks.server.ts; tests/e2e/security.spec.ts shows an old cookie refused), and an
  * invitation made while the mail service is down.
  */

@@ -14,7 +14,7 @@ import { schemaExists, testDb, uniqueSuffix } from './db';
 import { linkIn, mailsTo } from './mail';
 
 /**
- * Leaving (issue 18) against the real PostgreSQL, the fake SES and the files on disk: the export
+ * Leaving (export everything, deleting a shop) against the real PostgreSQL, the fake SES and the files on disk: the export
  * archive holds every table with the rows the database holds; deletion waits out its grace
  * period, can be restored, and then drops the schema and the uploads.
  */
