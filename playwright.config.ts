@@ -42,7 +42,7 @@ export default defineConfig({
 				// Setup photos go up to 8 MB, programs up to 20 MB; adapter-node refuses bodies over
 				// 512 kB by default.
 				BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '24M',
-				// A deleted shop's grace period, short so shop-life.spec.ts sees the drop (issue 18).
+				// A deleted shop's grace period, short so shop-life.spec.ts sees the drop.
 				SHOP_DELETION_GRACE_SECONDS: '20'
 			}
 		},

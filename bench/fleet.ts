@@ -4,7 +4,7 @@
  *
  * 1. A fresh database of its own (`datumkeep_bench`, from DATABASE_URL's server; the name must
  *    end in `_bench` and the server must be on loopback), migrated, with one shop of 200
- *    machines, 4,000 tools and 50,000 readings (bench/fleet-data.ts, the scale test's data) and
+ *    machines, 4,000 tools and 50,000 readings (tests/fixtures/fleet-data.ts, the scale test's data) and
  *    a lead to sign in as.
  * 2. The production build (`vite build`, unless BENCH_SKIP_BUILD=1) served by `node build` on a
  *    free loopback port, exactly as in production: hooks, Auth.js session, guard, board cache,
@@ -38,7 +38,7 @@ import { createDb } from '$lib/server/db';
 import { assertLoopbackDatabase } from '$lib/server/db/loopback';
 import { migrateAll } from '$lib/server/db/migrate';
 import { provisionShop } from '$lib/server/shops/provision';
-import { SCALE, seedScaleShop } from './fleet-data';
+import { SCALE, seedScaleShop } from '../tests/fixtures/fleet-data';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const root = join(here, '..');

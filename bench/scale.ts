@@ -4,7 +4,7 @@
  * A fresh database of its own (`datumkeep_scale_bench`, loopback only) grows to each size in
  * BENCH_SCALE_SIZES (default 10,100,1000 — the 1,000 step takes a while: run it once). Shops
  * are made by the real `provisionShop` (sign-up's schema creation) and given bulk data
- * (bench/fleet-data.ts without the per-shop ANALYZE): 3 machines with 20 tools and 60
+ * (tests/fixtures/fleet-data.ts without the per-shop ANALYZE): 3 machines with 20 tools and 60
  * readings each, and every 20th shop 50 machines with 1,000 readings. At each size:
  *
  * - sign-up: the median time of `provisionShop` over the last 10 shops made;
@@ -38,7 +38,7 @@ import { createDb } from '$lib/server/db';
 import { assertLoopbackDatabase } from '$lib/server/db/loopback';
 import { migratePublic } from '$lib/server/db/migrate';
 import { provisionShop, type ProvisionedShop } from '$lib/server/shops/provision';
-import { seedScaleShop } from './fleet-data';
+import { seedScaleShop } from '../tests/fixtures/fleet-data';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const root = join(here, '..');

@@ -63,7 +63,7 @@ export interface DemoMachine {
 		/** G-code programs uploaded to the setup and checked against it (program check). */
 		programs?: { name: string; fileName: string; lines: string[] }[];
 	}[];
-	/** Read-backs at the control (issue 16), oldest first: a saved file, or values typed from the screen. */
+	/** Read-backs at the control, oldest first: a saved file, or values typed from the screen. */
 	readbacks?: {
 		hoursAgo: number;
 		note: string;

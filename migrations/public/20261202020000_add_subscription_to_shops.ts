@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * A shop's plan and subscription (issue 8). Every shop, new or existing (the demo shops too),
+ * A shop's plan and subscription (billing). Every shop, new or existing (the demo shops too),
  * starts on a 14-day trial: `subscription_status` defaults to 'trialing' and `trial_ends_at` to
  * 14 days after the row is written (for existing rows: after this migration runs). The Stripe
  * columns are filled by checkout and webhooks; `billing_state_at` is the `created` time of the

@@ -2,7 +2,7 @@ import type { Knex } from 'knex';
 
 /**
  * The local hour (0–23, in the shop's own time zone) at which the nightly offset check runs
- * for the shop (issue 7). Default 02:00: before the first shift, so the digest is waiting.
+ * for the shop (the nightly check and digest). Default 02:00: before the first shift, so the digest is waiting.
  */
 export async function up(knex: Knex): Promise<void> {
 	await knex.schema.alterTable('shops', (t) => {

@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * A member's choice to stop the morning digest for this shop (issue 7). Per membership, not
+ * A member's choice to stop the morning digest for this shop. Per membership, not
  * per user: a lead of two shops may want one shop's digest and not the other's.
  */
 export async function up(knex: Knex): Promise<void> {

@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * A person's session generation (issue 13). Every session cookie carries the generation it
+ * A person's session generation (ends every session at once). Every session cookie carries the generation it
  * was issued under; the app accepts a cookie only while it equals the row's value. Password
  * reset, sign-out and removal from a shop add one, so every older cookie stops working at
  * once (the users trigger drops the cached sessions: `user:<id>`).

@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * Provisioning a shop at sign-up without giving the app role DDL rights (issue 13). Both
+ * Provisioning a shop at sign-up without giving the app role DDL rights (least privilege). Both
  * functions are SECURITY DEFINER, owned by the owner role that runs migrations
  * (src/lib/server/db/roles.ts):
  *

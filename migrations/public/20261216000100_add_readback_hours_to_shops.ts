@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * Shop policy for read-backs (issue 16): hours after an offset changes in Datumkeep before the
+ * Shop policy for read-backs at the control: hours after an offset changes in Datumkeep before the
  * shop check says it was "not verified at the control". Default 8 (our default: one shift).
  */
 export async function up(knex: Knex): Promise<void> {

@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * Shop settings (issue 18): the units a new machine starts with, and the shop's own limits for
+ * Shop settings: the units a new machine starts with, and the shop's own limits for
  * the offset checks (`check_policy`, the engine's PolicyInput: `units`, `jumpTolerance`,
  * `toolMaxAgeDays`, `workMaxAgeDays`; a missing field means the engine's default).
  * `time_zone` and `check_hour` already exist.

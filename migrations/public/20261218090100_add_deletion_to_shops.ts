@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * Deleting a shop (issue 18) is two steps: the owner asks (`deletion_requested_at`; the shop is
+ * Deleting a shop is two steps: the owner asks (`deletion_requested_at`; the shop is
  * read-only and the owner may restore it until `purge_after`), then a background job drops the
  * schema and uploads and sets `purged_at`. The row stays (slug, name, dates) so the public
  * lifecycle log keeps its subject.

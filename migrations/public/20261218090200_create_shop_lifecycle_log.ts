@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * What happened to shops as a whole (issue 18): deletion asked, restored, data dropped,
+ * What happened to shops as a whole: deletion asked, restored, data dropped,
  * ownership handed over, exports. Kept in `public`, because a dropped shop's own audit log goes
  * with its schema. Append-only, enforced by a trigger.
  */

@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * "Export everything" requests (issue 18): built by the `shop-export` worker with progress; the
+ * "Export everything" requests (leaving a shop): built by the `shop-export` worker with progress; the
  * archive sits under the uploads folder, reached by a link whose token is stored only as a
  * SHA-256 hash and stops working at `expires_at`.
  */

@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * Setups move planned → on-machine → proven → closed (issue 5). Old values map across:
+ * Setups move planned → on-machine → proven → closed. Old values map across:
  * running → on-machine, done → closed.
  */
 export async function up(knex: Knex): Promise<void> {

@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * Indexes for the fleet board's set-based queries (issue 7): the newest offset version of every
+ * Indexes for the fleet board's set-based queries: the newest offset version of every
  * register across the shop (DISTINCT ON … ORDER BY created_at desc, id desc), the newest
  * reading per machine, and open findings counted per machine and severity.
  */

@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * One row per background offset check of the shop (issue 7), keyed by the BullMQ job id so a
+ * One row per background offset check of the shop, keyed by the BullMQ job id so a
  * retried job updates its own row instead of adding one. The fleet board shows the newest;
  * "Check now" follows its own.
  */

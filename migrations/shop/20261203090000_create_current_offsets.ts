@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * The fleet board's read model (issue 7), kept by triggers in the same transaction as the
+ * The fleet board's read model, kept by triggers in the same transaction as the
  * append-only rows it summarises, so it can never disagree with them:
  *
  * - `current_offsets`: one row per register (machine, kind, register) holding its newest offset

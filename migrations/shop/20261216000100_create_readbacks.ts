@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * Read-backs (issue 16): what a machine's control held when someone read it back, compared with
+ * Read-backs at the control: what a machine's control held when someone read it back, compared with
  * what Datumkeep had computed. Append-only like readings: a read-back is never edited or
  * deleted; reading back again is a new record. `readback_values` keeps every register of the
  * read-back with the offset version it was compared against, so a register's verification

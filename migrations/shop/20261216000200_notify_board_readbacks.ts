@@ -2,7 +2,7 @@ import type { Knex } from 'knex';
 
 /**
  * The fleet board counts, per machine, the registers in use by active setups that are not
- * verified at the control (issue 16). That reads read-back values and which fixtures and tools
+ * verified at the control. That reads read-back values and which fixtures and tools
  * the setups use, so those tables announce their changes to the board cache too
  * (see 20261204090000_notify_board_changes).
  */

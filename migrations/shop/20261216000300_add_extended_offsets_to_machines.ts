@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 
 /**
- * Extended work offsets are a machine setting, not one control family's numbers (issue 16): how
+ * Extended work offsets are a machine setting, not one control family's numbers: how
  * many the control has (0–48, the registers Datumkeep keeps) and how its programs address them
  * (`G54.1 P3` or `G54 P3`). Machines whose load programs use the G10 L10 length form keep the
  * 48 they were assumed to have; the tool-table (G10 L1) form has none in load programs.

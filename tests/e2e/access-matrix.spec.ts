@@ -100,7 +100,7 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	// Read-backs at the control: every role records them (like readings) and sees them.
 	'/shops/[shop]/machines/[machine]/readback': { allowed: ALL, actions: ['typed', 'file'] },
 	'/api/v1/shops/[shop]/machines/[machine]/readbacks': { allowed: ALL },
-	// At the machine (issue 17): label sheet and machine mode, for every member.
+	// At the machine: label sheet and machine mode, for every member.
 	'/shops/[shop]/machines/[machine]/labels': { allowed: ALL },
 	'/shops/[shop]/machines/[machine]/machine-mode': { allowed: ALL },
 	'/api/v1/shops/[shop]/machines/[machine]/offsets': { allowed: ALL },
@@ -120,7 +120,7 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	},
 	'/api/v1/shops/[shop]/fleet': { allowed: ALL },
 	'/api/v1/shops/[shop]/checks': { allowed: ALL },
-	// Issue 18: settings for owner and admin; ownership, export and deletion for the owner only.
+	// Settings for owner and admin; ownership, export and deletion for the owner only.
 	'/shops/[shop]/settings': { allowed: ['owner', 'admin'], actions: ['default'] },
 	'/shops/[shop]/settings/transfer': { allowed: ['owner'], actions: ['default'] },
 	'/shops/[shop]/settings/export': { allowed: ['owner'], actions: ['default'] },
@@ -130,7 +130,7 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	'/shops/[shop]/audit/export': { allowed: ['owner', 'admin'] }
 };
 
-/** Form actions of pages already listed above, with fewer roles than the page (issue 18). */
+/** Form actions of pages already listed above, with fewer roles than the page. */
 const EXTRA_ACTIONS: Record<string, ShopRoute> = {
 	'/shops/[shop]': {
 		allowed: ALL,

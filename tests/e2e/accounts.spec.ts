@@ -67,7 +67,7 @@ test('the owner invites an operator, who accepts from the e-mail and sees only w
 	await expect(page.getByText('Role changed.')).toBeVisible();
 	expect((await p2.goto('/shops/fernhill-precision/members'))?.status()).toBe(200);
 	await row.getByRole('button', { name: /^Remove / }).click();
-	// Removal asks first, naming the person (issue 18).
+	// Removal asks first, naming the person.
 	await page
 		.getByTestId('confirm-remove')
 		.getByRole('button', { name: 'Remove Erin Example' })

@@ -6,7 +6,7 @@ import { randomUUID } from 'node:crypto';
 import { baseURL, DEMO_PASSWORD, FERNHILL, signedInClient } from './helpers';
 
 /**
- * At the machine (issue 17): every page an operator uses fits a phone (390×844) and a tablet
+ * At the machine: every page an operator uses fits a phone (390×844) and a tablet
  * (820×1180) without sideways scrolling, with its primary action on screen and no serious or
  * critical axe-core findings; Mill 1's label sheet prints and its QR codes decode to the right
  * URLs (which open after sign-in); machine mode shows the setup on the table and updates itself.

@@ -51,7 +51,7 @@ async function payOnFakeCheckout(page: Page, card: string) {
 	await page.getByLabel('Card number').fill(card);
 	await page.getByLabel('Expiry').fill('12/34');
 	await page.getByLabel('CVC').fill('123');
-	// "Start trial" when the shop's trial is kept to its end (issue 18), else "Subscribe".
+	// "Start trial" when the shop's trial is kept to its end (paying during the trial keeps it), else "Subscribe".
 	await page.getByRole('button', { name: /^(Subscribe|Start trial)$/ }).click();
 }
 

@@ -8,7 +8,7 @@ import { slowProxy, startCluster, type RunningCluster } from './cluster-helpers'
 import { DEMO_PASSWORD, FERNHILL, QUARRY } from './helpers';
 
 /**
- * Issue 19 on real parts: `npm run cluster` (HAProxy → 2 app nodes, PgBouncer in transaction
+ * Scaling out, on real parts: `npm run cluster` (HAProxy → 2 app nodes, PgBouncer in transaction
  * pooling, 2 workers) with its own ports, its own database (`…_cluster_test`, fresh, demo
  * seed) and its own Redis database and queue prefix, so it never meets the other specs' server.
  * Node 2's change feed goes through a proxy that delays what PostgreSQL sends by FEED_DELAY_MS:

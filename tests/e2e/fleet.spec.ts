@@ -23,8 +23,8 @@ test('a lead sees Mill 1 flagged, checks now, acknowledges its finding and the b
 	await page.getByRole('link', { name: 'Fleet board' }).click();
 	await expect(page).toHaveURL(board);
 
-	// Mill 1's H4 was keyed in at the control with two digits swapped (the demo's read-back,
-	// issue 16): a Stop, which outranks its spare H6 being past the 30-day limit for tools.
+	// Mill 1's H4 was keyed in at the control with two digits swapped (the demo's read-back
+	// at the control): a Stop, which outranks its spare H6 being past the 30-day limit for tools.
 	const mill1 = page.locator('[data-testid="fleet-row"][data-machine="Mill 1"]');
 	await expect(mill1).toHaveAttribute('data-health', 'stop');
 	const badge = mill1.locator('td').first().locator('[data-status="stop"]');

@@ -2,7 +2,7 @@ import { expect, test, type BrowserContext, type Page, type Route } from '@playw
 import { DEMO_PASSWORD, FERNHILL, signedInClient } from './helpers';
 
 /**
- * Readings that survive a lost connection (issue 17), in Chromium with the app's service
+ * Readings that survive a lost connection, in Chromium with the app's service
  * worker: a reading typed while offline is kept on the device, survives a reload, is sent once
  * when the connection returns and shows in the history with the measured and received times;
  * a kept reading that the server would now call Stop (the reference was re-established

@@ -2,7 +2,7 @@ import { expect, test, type Page } from '@playwright/test';
 import { DEMO_PASSWORD, FERNHILL } from './helpers';
 
 /**
- * Safety gates (issue 12), on a tablet beside the machine (820×1180): a number the checks call
+ * Safety gates, on a tablet beside the machine (820×1180): a number the checks call
  * Stop or stale never reaches the machine unmarked.
  * Mill 2 (demo): ISO-style, reference-touch, inch; its block was re-set 3 days ago, so G54 and
  * H1 (measured 9 days ago) are stale; H6 (-13.5018 in, 2 days ago) is fine (unless the readings

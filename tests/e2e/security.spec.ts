@@ -1,5 +1,5 @@
 /**
- * Issue 13, sign-in and sessions, against the production build: Auth.js's own credentials
+ * Hardening of sign-in and sessions, against the production build: Auth.js's own credentials
  * endpoint is limited and audited like the sign-in page, old cookies die at once, `next=`
  * stays on the site, the CSP is sent, and the dev mailbox shows a person only their own mail.
  */

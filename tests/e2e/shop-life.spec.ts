@@ -7,7 +7,7 @@ import { formatWhen } from '../../src/lib/time';
 import { mailsTo } from './helpers';
 
 /**
- * A shop's whole life (issue 18): a stranger signs up and follows the first steps to a first
+ * A shop's whole life: a stranger signs up and follows the first steps to a first
  * touch-off; the owner changes the time zone; people are removed (with confirmation) and
  * ownership is handed over; the data is exported; the shop is deleted, restored, deleted again
  * and dropped. Each test starts its own shop so the demo shops stay as other specs expect.

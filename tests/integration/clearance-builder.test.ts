@@ -11,7 +11,7 @@ import { testDb, uniqueSuffix } from './db';
 import { insertTwoFixtureMill } from './two-fixture-mill';
 
 /**
- * One clearance-plane builder (issue 12): the offset checks (machineState → checkOffsets), the
+ * One clearance-plane builder: the offset checks (machineState → checkOffsets), the
  * setup page (getSetupDetail), the setup sheet (setupFromParam, its loader) and the program
  * check (programSetupFor) give the same planes — with a tall fixture whose offset was never
  * measured (still an obstacle on the table), and on a master-tool machine.

@@ -3,7 +3,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { withShop, type ShopRef } from '$lib/server/db/tenant';
 import { currentOffsets } from '$lib/server/offsets/machine-state';
 import { provisionShop } from '$lib/server/shops/provision';
-import { seedScaleShop } from '../../bench/fleet-data';
+import { seedScaleShop } from '../fixtures/fleet-data';
 import { testDb, uniqueSuffix } from './db';
 
 /**

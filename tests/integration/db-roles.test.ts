@@ -8,7 +8,7 @@ import { createShopWithOwner } from '$lib/server/shops/create';
 import { testDb, uniqueSuffix } from './db';
 
 /**
- * Issue 13: the app and the worker log in as a least-privilege role (DATABASE_APP_URL). These
+ * Least privilege: the app and the worker log in as a least-privilege role (DATABASE_APP_URL). These
  * run as that role, against the real PostgreSQL, and prove what it cannot do. On a database
  * where the app is the superuser, every one of them fails.
  */

@@ -10,7 +10,7 @@ import { provisionShop } from '$lib/server/shops/provision';
 import { testDb, uniqueSuffix } from './db';
 
 /**
- * Findings follow the data (issue 12): a write that changes a machine's offsets re-runs its
+ * Findings follow the data (a safety gate): a write that changes a machine's offsets re-runs its
  * checks in the same transaction, so a re-measure resolves the finding it fixes at once; a
  * finding that comes back after being resolved is a new row linked to the resolved one; an
  * override is a finding of its own until a reading without override replaces the value.

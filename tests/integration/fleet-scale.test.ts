@@ -3,12 +3,12 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { withShop, type ShopRef } from '$lib/server/db/tenant';
 import { fleetBoard } from '$lib/server/fleet/board';
 import { provisionShop } from '$lib/server/shops/provision';
-import { SCALE, seedScaleShop } from '../../bench/fleet-data';
+import { SCALE, seedScaleShop } from '../fixtures/fleet-data';
 import { testDb, uniqueSuffix } from './db';
 
 /**
  * The fleet board at scale: 200 machines, 4,000 tools and 50,000 readings with their offset
- * versions, seeded in bulk by bench/fleet-data.ts (shared with `npm run bench`). The board's
+ * versions, seeded in bulk by tests/fixtures/fleet-data.ts (shared with `npm run bench`). The board's
  * data must come in a small, constant number of SQL statements — counted through Knex's
  * `query` event — whatever the size of the shop. Speed is measured by `npm run bench`, not here.
  */

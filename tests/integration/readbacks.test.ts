@@ -15,7 +15,7 @@ import { testDb, uniqueSuffix } from './db';
 import { insertTwoFixtureMill } from './two-fixture-mill';
 
 /**
- * Read-backs against the real PostgreSQL (issue 16): records are append-only at the database,
+ * Read-backs at the control against the real PostgreSQL: records are append-only at the database,
  * a register's verification follows its offset versions, and mismatches become findings at once.
  * Each run provisions its own shop so the demo data is never touched.
  */

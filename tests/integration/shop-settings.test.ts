@@ -11,7 +11,7 @@ import { defaultUnits, readSettings, saveSettings } from '$lib/server/shops/sett
 import { testDb, uniqueSuffix } from './db';
 import { insertTwoFixtureMill } from './two-fixture-mill';
 
-/** Shop settings and people (issue 18) against the real PostgreSQL. */
+/** Shop settings and people (owners and admins) against the real PostgreSQL. */
 const knex: Knex = testDb();
 afterAll(() => knex.destroy());
 

@@ -7,7 +7,7 @@ import { createShopWithOwner } from '$lib/server/shops/create';
 import { testDb, uniqueSuffix } from './db';
 
 /**
- * Issue 13: the Stripe webhook resolves the shop from the stored customer and subscription
+ * Hardening: the Stripe webhook resolves the shop from the stored customer and subscription
  * ids, never from an event's metadata against them. Before, a signed event for shop A's
  * customer carrying shop B's id in metadata changed shop B.
  */

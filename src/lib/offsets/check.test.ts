@@ -108,6 +108,8 @@ describe('checkOffsets', () => {
 	});
 
 	test('out-of-travel: a single value beyond the whole travel', () => {
+		// ETSU ENTC 3710 ch. 11: a reference-touch offset is a −Z distance from home, so it cannot
+		// be longer than the 20 in travel (Z home at 0, common shop practice)
 		const i = base();
 		i.table.tools['3'] = -25;
 		i.history = undefined;
@@ -127,13 +129,17 @@ describe('checkOffsets', () => {
 	});
 
 	test('decimal-slip: point one place off', () => {
+		// common shop practice: a decimal point typed one place off gives 10× or 1/10 of the value
+		// (no published source; DESIGN.md §3 names the check)
 		const i = base();
 		i.table.tools['3'] = -1.35;
 		i.setups = undefined;
 		expect(only(checkOffsets(i), 'decimal-slip').subject).toEqual({ type: 'tool', h: '3' });
 	});
 
-	test('sign-flip: minus sign dropped on a gauge-length work offset', () => {
+	test('sign-flip: a minus sign added to a master-tool length offset', () => {
+		// DESIGN.md §2 master-tool row: H = L_i − L_m, so the sign is the tool's length against the
+		// master's; a dropped minus sign is the same size, other sign (common shop practice)
 		const i = base();
 		i.machine.convention = 'master-tool';
 		i.table = {
@@ -153,6 +159,7 @@ describe('checkOffsets', () => {
 	});
 
 	test('transposed-digits: two neighbouring digits swapped', () => {
+		// common shop practice: two neighbouring digits keyed in swapped (no published source)
 		const i = base();
 		i.table.tools['2'] = -14.0021; // recorded −14.0012
 		i.history!.tools!['2'] = [{ value: -14.0012, at: ago(2) }];
@@ -161,6 +168,8 @@ describe('checkOffsets', () => {
 	});
 
 	test('jump: changed beyond the tolerance with no tool change', () => {
+		// common shop practice: a tool's length does not change unless the tool does; the
+		// tolerance is the shop's (our default policy, no published number)
 		const i = base();
 		i.table.tools['1'] = -13.02;
 		i.setups = undefined;
@@ -185,6 +194,7 @@ describe('checkOffsets', () => {
 	});
 
 	test('stale-age: older than the shop limit', () => {
+		// shop policy with our default limit: no published number exists (SOURCES.md §14)
 		const i = base();
 		i.history!.tools!['2'] = [{ value: -14, at: ago(DEFAULT_POLICY.inch.toolMaxAgeDays + 1) }];
 		expect(only(checkOffsets(i), 'stale-age')).toMatchObject({
@@ -198,6 +208,8 @@ describe('checkOffsets', () => {
 	});
 
 	test('stale-reference: measured before the reference was re-established', () => {
+		// ETSU ENTC 3710 ch. 11: reference-touch tool offsets are measured to the reference
+		// surface, so one measured before it was re-established is against the old surface
 		const i = base();
 		i.referenceEstablishedAt = ago(1.5); // after the tools (2 days) but before the work offsets (1 day)
 		const f = checkOffsets(i).filter((x) => x.kind === 'stale-reference');
@@ -209,6 +221,8 @@ describe('checkOffsets', () => {
 	});
 
 	test('stale-reference: gauge-length tool lengths do not depend on the reference', () => {
+		// Modern Machine Shop, "CNC Tech Talk", Jan 2017: gauge-length offsets are the tool's own
+		// length; only G54 Z (R + h, DESIGN.md §2) holds the reference
 		const i = base();
 		i.machine.convention = 'gauge-length';
 		i.table = {
@@ -232,6 +246,8 @@ describe('checkOffsets', () => {
 	});
 
 	test('duplicate-register: the same register typed twice in the table', () => {
+		// NISTIR 6556 §3.2.2: each coordinate system has one origin, so two values for G54 cannot
+		// both be right
 		const i = base();
 		i.table.work['g54'] = 1.2;
 		expect(only(checkOffsets(i), 'duplicate-register')).toMatchObject({
@@ -241,6 +257,7 @@ describe('checkOffsets', () => {
 	});
 
 	test('duplicate-register: two fixtures of a setup on one register', () => {
+		// NISTIR 6556 §3.2.2: one origin per coordinate system, so two fixtures cannot share one
 		const i = base();
 		i.setups![0].fixtures[1].register = 'G54';
 		const f = only(checkOffsets(i), 'duplicate-register');
@@ -251,7 +268,9 @@ describe('checkOffsets', () => {
 	test('unset: used but missing, or zero where zero is impossible', () => {
 		const i = base();
 		i.used = { work: ['G54', 'G56'], tools: ['1'] };
-		i.table.tools['3'] = 0; // a control shows 0 for a never-set offset
+		// a control shows 0 for a never-set offset (from memory); NISTIR 6556 §3.5.11: H0 is zero
+		// offset, which a reference-touch tool cannot have (its offset is a −Z distance, ETSU ch. 11)
+		i.table.tools['3'] = 0;
 		const f = checkOffsets(i).filter((x) => x.kind === 'unset');
 		expect(f.map((x) => x.subject)).toEqual([
 			{ type: 'fixture', register: 'G56' },

@@ -22,6 +22,7 @@ describe('clearancePlanes', () => {
 	});
 
 	test('a tall clamp raises every plane; the shop margin is used', () => {
+		// DESIGN.md §4 as above, with the shop's own margin (shop policy): 6 + 0.5 − h_k
 		const s = { ...SETUP, margin: 0.5, obstacles: [{ label: 'vise jaw', height: 6 }] };
 		expect(clearancePlanes(s)).toEqual({ G54: 5.25, G55: 2 });
 	});

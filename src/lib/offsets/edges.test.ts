@@ -106,6 +106,7 @@ describe('centre from two opposite edges', () => {
 	});
 
 	test('the order the edges were touched in does not matter', () => {
+		// common shop practice: the centre is the mean of the two edges, whichever came first
 		const a = centreFromEdges({
 			units: 'inch',
 			axis: 'X',

@@ -32,7 +32,7 @@ export const PROGRAM_FINDING_KINDS = [
 	'heights-unknown'
 ] as const;
 
-/** Kinds from read-backs at the control (issue 16), made by the shop check and the read-back itself. */
+/** Kinds from read-backs at the control, made by the shop check and the read-back itself. */
 export const READBACK_FINDING_KINDS = ['readback-mismatch', 'unverified'] as const;
 
 /** Every finding kind. */

@@ -37,6 +37,8 @@ describe('gateOffsets: one verdict per register', () => {
 	};
 	const gate = gateOffsets(input);
 	it('stale (measured before the reference was re-set), stop (slip), not measured', () => {
+		// ETSU ENTC 3710 ch. 11: reference-touch offsets are measured to the reference, so older
+		// ones are stale; −1.3502 after −13.5018 is the decimal point one place off (common shop practice)
 		expect(gate.work.G54.status).toBe('stale');
 		expect(gate.tools['1'].status).toBe('stale');
 		expect(gate.tools['6'].status).toBe('stop');

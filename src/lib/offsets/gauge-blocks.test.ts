@@ -74,6 +74,7 @@ describe('gaugeStack', () => {
 	});
 
 	test('property: every 81-piece stack from .200 to 12.000 sums exactly, blocks from the set, each once', () => {
+		// "Jo Block Stacks" page (SOURCES.md §10): the 81-piece set covers .100–12.000 in by .0001
 		const blocks = new Set(gaugeSetBlocks(GAUGE_SETS['inch-81']));
 		fc.assert(
 			fc.property(fc.integer({ min: 2000, max: 120000 }), (count) => {

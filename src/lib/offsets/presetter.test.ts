@@ -36,6 +36,8 @@ describe('H from a presetter gauge length', () => {
 	});
 
 	test('master-tool from the master reading on the machine: L_m = masterTouchZ − R', () => {
+		// DESIGN.md §2: R is the gauge line's Z on the reference, so a tip touch there reads R + L_m;
+		// then H = L − L_m as above (R and the readings invented)
 		expect(
 			toolOffsetFromPresetter({
 				convention: 'master-tool',

@@ -40,6 +40,8 @@ describe('tool length offset from a touch-off', () => {
 	});
 
 	test('touched directly: the reading is the reference-touch offset', () => {
+		// ETSU ENTC 3710 ch. 11: the offset is the −Z distance from home (machine Z 0) to the
+		// reference surface, i.e. the machine Z read with the tip on it
 		expect(
 			toolOffsetFromTouch({ convention: 'reference-touch', units: 'inch', touchZ: -12.6 })
 		).toBe(-12.6);
@@ -60,6 +62,8 @@ describe('tool length offset from a touch-off', () => {
 	});
 
 	test('master-tool: relative to the master touch', () => {
+		// DESIGN.md §2 master-tool row: H_i = L_i − L_m, the difference of the two touches on the
+		// same surface (common shop practice; no published source names the convention)
 		expect(
 			toolOffsetFromTouch({
 				convention: 'master-tool',
@@ -83,6 +87,7 @@ describe('tool length offset from a touch-off', () => {
 	});
 
 	test('refuses a reading outside the machine travel, a missing R, a NaN', () => {
+		// Z home at the top of travel, so machine Z lies in [−20, 0] on Mill 1 (common shop practice)
 		expect(() =>
 			toolOffsetFromTouch({
 				convention: 'reference-touch',
@@ -113,6 +118,8 @@ describe('work offset Z', () => {
 	const readings = { units: 'inch' as const, referenceZ: -13, partTopZ: -11.75 };
 
 	test('h from the reference and part-top readings', () => {
+		// "Contemporary CNC" notes: G54 Z = the work height above the table (the reference); the
+		// same tool touched on both, so its length cancels (DESIGN.md §2: h_k above the reference)
 		expect(zeroHeightFromReadings(readings)).toBe(1.25);
 		// both through the same 0.100 block: the block cancels
 		expect(
@@ -133,6 +140,8 @@ describe('work offset Z', () => {
 		expect(
 			workOffsetZFromReadings({ ...readings, convention: 'gauge-length', referenceGaugeLineZ: R })
 		).toBe(-13.75);
+		// DESIGN.md §2 master-tool row: W = R + h + L_m, the master's touch on the part top
+		// (common shop practice)
 		expect(
 			workOffsetZFromReadings({ ...readings, convention: 'master-tool', masterTouchZ: -13 })
 		).toBe(-11.75);
@@ -215,6 +224,8 @@ describe('re-establishing the reference', () => {
 		);
 
 	test('reference-touch, machine shift: tool offsets move, work offsets stay', () => {
+		// ETSU ENTC 3710 ch. 11: tool offsets are distances from home to the reference, so a
+		// shifted machine Z moves every one by the shift; h (above the reference) stays
 		const table = tableFromGeometry(geometry, 'reference-touch', 'inch');
 		const r = reestablishReference({
 			table,
@@ -229,6 +240,8 @@ describe('re-establishing the reference', () => {
 	});
 
 	test('gauge-length, block re-placed higher: nothing in the table changes', () => {
+		// Modern Machine Shop, "CNC Tech Talk", Jan 2017: gauge-length offsets are the tools' own
+		// lengths; G54 Z (R + h) stays because the part did not move (common shop practice)
 		const table = tableFromGeometry(geometry, 'gauge-length', 'inch');
 		const r = reestablishReference({
 			table,
@@ -241,6 +254,8 @@ describe('re-establishing the reference', () => {
 	});
 
 	test('property: a machine shift moves every spindle Z by d; a moved block moves none', () => {
+		// NISTIR 6556 composition: spindle Z at program Z0 = W + H; DESIGN.md §2 invariant W + H =
+		// R + h + L, so only a shift of the machine's Z moves it
 		fc.assert(
 			fc.property(
 				fc.constantFrom<Convention>('reference-touch', 'gauge-length', 'master-tool'),

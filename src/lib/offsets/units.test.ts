@@ -28,6 +28,7 @@ describe('inch and mm', () => {
 	});
 
 	test('no binary-float surprises in a conversion', () => {
+		// NIST SP 811 App. B.8: 25.4 mm per inch exactly, so 1.2 in is exactly 30.48 mm;
 		// 1.2 × 25.4 in plain float arithmetic is 30.479999999999997; the exact product is 30.48
 		expect(1.2 * 25.4).not.toBe(30.48);
 		expect(toUnits(1.2, 'inch', 'mm')).toBe(30.48);
@@ -47,7 +48,8 @@ describe('inch and mm', () => {
 	});
 
 	test('property: inch → mm → inch returns the same 0.0001 in increment', () => {
-		// 0.001 mm < half of 0.0001 in (0.00127 mm), so the round trip cannot move an increment
+		// M. Lynch, Modern Machine Shop: increments 0.0001 in and 0.001 mm; NIST SP 811: 0.0001 in =
+		// 0.00254 mm, so 0.001 mm < half of it (0.00127 mm) and the round trip cannot move an increment
 		fc.assert(
 			fc.property(fc.integer({ min: -500_000, max: 500_000 }), (count) => {
 				const inch = fromIncrements(count, 0.0001);
@@ -59,6 +61,7 @@ describe('inch and mm', () => {
 	});
 
 	test('property: mm → inch → mm moves a value by at most half of 0.0001 in', () => {
+		// same sources: rounding to 0.0001 in moves at most 0.00127 mm, back to 0.001 mm at most 0.0005
 		fc.assert(
 			fc.property(fc.integer({ min: -500_000, max: 500_000 }), (count) => {
 				const mm = fromIncrements(count, 0.001);
@@ -71,7 +74,8 @@ describe('inch and mm', () => {
 
 describe('rounding to the resolution (halves away from zero)', () => {
 	test('halves go away from zero, both signs', () => {
-		// our stated rule (docs/OFFSETS.md): half away from zero
+		// our stated rule (docs/OFFSETS.md), no published source: half away from zero, so a
+		// negative offset rounds like its positive twin
 		expect(roundToResolution(1.23455, 0.0001)).toBe(1.2346);
 		expect(roundToResolution(-1.23455, 0.0001)).toBe(-1.2346);
 		expect(roundToResolution(0.00005, 'inch')).toBe(0.0001);
@@ -93,6 +97,7 @@ describe('rounding to the resolution (halves away from zero)', () => {
 	});
 
 	test('property: increments are integers and rounding is idempotent', () => {
+		// arithmetic on the 0.0001 in increment (M. Lynch, Modern Machine Shop)
 		fc.assert(
 			fc.property(fc.double({ min: -1000, max: 1000, noNaN: true }), (v) => {
 				const once = roundToResolution(v, 0.0001);
@@ -106,11 +111,14 @@ describe('rounding to the resolution (halves away from zero)', () => {
 		expect(() => roundToResolution(Number.NaN, 0.0001)).toThrow(OffsetInputError);
 		expect(() => toUnits(Infinity, 'inch', 'mm')).toThrow(/finite/);
 		expect(() => roundToResolution(1, 0)).toThrow(/greater than zero/);
+		let refused: unknown;
 		try {
 			toUnits(1, 'inch', 'cm' as 'mm');
 		} catch (e) {
-			expect((e as OffsetInputError).issues[0]).toMatchObject({ field: 'to', value: 'cm' });
+			refused = e;
 		}
+		expect(refused).toBeInstanceOf(OffsetInputError);
+		expect((refused as OffsetInputError).issues[0]).toMatchObject({ field: 'to', value: 'cm' });
 	});
 });
 

@@ -23,6 +23,7 @@ describe('length wear from a measured depth', () => {
 	});
 
 	test('adds to the current wear', () => {
+		// ISO-style mill manual §1.2.10 (SOURCES.md 3): under G91 a G10 wear value adds to the one held
 		const p = proposeWear({
 			units: 'inch',
 			feature: 'depth',
@@ -46,6 +47,7 @@ describe('radius and diameter wear from a measured size', () => {
 	});
 
 	test('outside too small: leave more, radius wear positive', () => {
+		// common shop practice: half the size error per side; a larger radius leaves more
 		const p = proposeWear({ units: 'mm', feature: 'outside', nominal: 40, measured: 39.96 });
 		expect(p.change).toBe(0.02);
 	});
@@ -57,6 +59,7 @@ describe('radius and diameter wear from a measured size', () => {
 	});
 
 	test('inside too big: leave more, radius wear positive', () => {
+		// common shop practice: half the size error per side; a larger radius leaves more in a bore
 		const p = proposeWear({ units: 'inch', feature: 'inside', nominal: 0.75, measured: 0.7524 });
 		expect(p.change).toBe(0.0012);
 	});
@@ -75,6 +78,7 @@ describe('radius and diameter wear from a measured size', () => {
 	});
 
 	test('radius wear warns that it needs cutter compensation in the program', () => {
+		// NIST RS274NGC v3: the radius offset acts only under G41/G42 cutter compensation (from memory)
 		const p = proposeWear({ units: 'inch', feature: 'inside', nominal: 0.75, measured: 0.749 });
 		expect(p.cautions.join(' ')).toMatch(/G41\/G42/);
 	});
@@ -96,6 +100,7 @@ describe('the wear limit', () => {
 	});
 
 	test('wearBeyondLimit: inch 0.010 and mm 0.25 defaults, inclusive at the limit', () => {
+		// our defaults, shop policy (SOURCES.md 14: no published number)
 		expect(wearBeyondLimit(0.01, 'inch')).toBe(false);
 		expect(wearBeyondLimit(-0.0101, 'inch')).toBe(true);
 		expect(wearBeyondLimit(0.25, 'mm')).toBe(false);

@@ -54,6 +54,8 @@ describe('low-traverse', () => {
 	});
 
 	test('a retract that is not high enough is still caught; exactly at the plane is clear', () => {
+		// common shop practice: lift clear in Z before moving between fixtures; the plane is ours
+		// (tallest obstacle + margin, DESIGN.md §4: no published clearance height, SOURCES.md §14)
 		expect(found(program(...withLine(CLEAN, 10, 'G0 Z4.2')))).toEqual([
 			['low-traverse', 11, 'stop']
 		]);
@@ -61,6 +63,7 @@ describe('low-traverse', () => {
 	});
 
 	test('sideways and down in one rapid is a caution; sideways below the part top too', () => {
+		// common shop practice: a rapid goes down only after it is over the spot, never on the way
 		const diag = withLine(CLEAN, 12, 'G0 X11. Z0.1');
 		expect(found(program(...diag))).toEqual([['low-traverse', 12, 'caution']]);
 		const deep = [...CLEAN.slice(0, 8), 'G0 X3.', ...CLEAN.slice(9)];
@@ -94,6 +97,8 @@ describe('no-length-comp', () => {
 			'Z0.1', // 13: G43 H1 is still in force, but nothing was taken up for T2
 			'M30'
 		];
+		// NISTIR 6556 §3.5.11: G43 H_ applies entry H until changed or cancelled by G49 (that M6
+		// alone leaves it in force is from memory).
 		// H1 is still applied to T2 (0.5 in shorter: H2 − H1), so the rapid to Z0.1 puts T2's
 		// tip at 0.1 + 1.25 − 0.5 = 0.85, below the part top (1.25): into the part as well.
 		expect(found(program(...lines))).toEqual([
@@ -156,6 +161,8 @@ describe('units-mismatch', () => {
 	});
 
 	test('no G20/G21 before the first move is a caution there', () => {
+		// common shop practice: state the units in the program's first lines (a safety line), since
+		// the control otherwise keeps whatever mode it was left in
 		expect(found(program(...withLine(CLEAN, 3, 'G17 G40 G80 G90')))).toEqual([
 			['units-mismatch', 5, 'caution']
 		]);
@@ -164,6 +171,8 @@ describe('units-mismatch', () => {
 
 describe('unknown offsets', () => {
 	test('a work offset missing from the table stops; one outside the setup is a caution', () => {
+		// NISTIR 6556 §3.2.2: G54–G59.3 are coordinate systems P1–P9; ISO-style controls add
+		// G54.1 P1–P48 (SOURCES.md §3, secondary sources): a bare G54.1 names none of them
 		expect(found(program(...withLine(CLEAN, 11, 'G56 X10. Y1.')))).toEqual([
 			['unknown-work-offset', 11, 'stop']
 		]);
@@ -179,6 +188,7 @@ describe('unknown offsets', () => {
 	});
 
 	test('G54.1 Pn is read as an extended work offset', () => {
+		// SOURCES.md §3: on ISO-style controls G54.1 P1–P48 are the extended work offsets
 		const setup = {
 			...PUMP,
 			table: { ...PUMP.table, work: { ...PUMP.table.work, 'G54.1 P2': 4.5 } },
@@ -196,17 +206,19 @@ describe('unknown offsets', () => {
 		expect(found(program(...withLine(CLEAN, 6, 'G43 H7 Z4.5')))).toEqual([
 			['unknown-tool-offset', 6, 'stop']
 		]);
-		// ISO-style: G43 without H keeps the H in force; none was given yet (dialect.ts).
+		// ISO-style: G43 without H keeps the H in force; none was given yet (dialect.ts; from memory).
 		const iso = { ...PUMP, dialect: 'iso' as const };
 		expect(found(program(...withLine(CLEAN, 6, 'G43 Z4.5')), iso)).toEqual([
 			['unknown-tool-offset', 6, 'stop']
 		]);
-		// RS274NGC-style: the loaded tool's entry (T1 → H1): nothing wrong.
+		// RS274NGC-style: the loaded tool's entry (T1 → H1): nothing wrong (LinuxCNC documentation,
+		// from memory: G43 without H uses the current tool's entry).
 		const ngc = { ...PUMP, dialect: 'rs274ngc' as const };
 		expect(found(program(...withLine(CLEAN, 6, 'G43 Z4.5')), ngc)).toEqual([]);
 	});
 
 	test('another tool’s H is a caution while the tip stays above the clearance height', () => {
+		// NISTIR 6556 composition (spindle Z = program Z + W + H) with H2 in place of H1:
 		// T1 with H2 (0.5 in longer offset): tip at 4.5 + 1.25 + 0.5 = 6.25 ≥ 5.5.
 		const r = found(program(...CLEAN.slice(0, 5), 'G43 H2 Z4.5', 'M30'));
 		expect(r).toEqual([['unknown-tool-offset', 6, 'caution']]);
@@ -222,6 +234,7 @@ describe('overtravel', () => {
 	});
 
 	test('below the bottom of travel (−20)', () => {
+		// NISTIR 6556 composition, 20 in travel below Z home 0 (common shop practice):
 		// −6 + 1.25 − 15 = −19.75 is inside; −6 in G55: −6 + 4.5 − 15 = −16.5 inside; −12 in G55 = −22.5.
 		expect(found(program(...withLine(CLEAN, 13, 'G1 Z-12. F20.')))).toEqual([
 			['overtravel', 13, 'stop']
@@ -230,6 +243,8 @@ describe('overtravel', () => {
 	});
 
 	test('G53 Z is machine Z; G53 Z1. is above the top', () => {
+		// RS274NGC: G53 moves in absolute machine coordinates, no work or tool offset (from memory;
+		// not among the sections read in SOURCES.md §1)
 		expect(found(program(...withLine(CLEAN, 15, 'G53 G0 Z1.')))).toEqual([
 			['overtravel', 15, 'stop']
 		]);
@@ -239,6 +254,8 @@ describe('overtravel', () => {
 
 describe('parse-error', () => {
 	test('a word with no number stops at its line; the control refuses the block', () => {
+		// RS274NGC / ISO 6983-1 word-address format: a word is a letter and a number; a second X in
+		// one block and an unclosed comment are errors (from memory)
 		expect(found(program(...withLine(CLEAN, 9, 'G1 X F20.')))).toEqual([
 			['parse-error', 9, 'stop']
 		]);
@@ -249,7 +266,9 @@ describe('parse-error', () => {
 	});
 
 	test('macros, external subprograms and G65 make one heights-unknown span; G10 a caution', () => {
-		// Line 9 loses the heights; line 10 (G0 Z4.5, absolute) picks them up again.
+		// Line 9 loses the heights; line 10 (G0 Z4.5, absolute) picks them up again. What a macro
+		// or subprogram moves is unknown without running it (common shop practice); G10 L2
+		// changes a work offset from inside the program (NISTIR 6556 §3.5.5).
 		for (const line of ['IF [#1 GT 2] GOTO 5', 'M98 P1000', 'G65 P9000 A1.']) {
 			const r = checkProgram(program(...withLine(CLEAN, 9, line)), PUMP);
 			expect(
@@ -265,6 +284,8 @@ describe('parse-error', () => {
 	});
 
 	test('a Z from a parameter makes the height unknown, so no later height is guessed', () => {
+		// NISTIR 6556 §3.2.1: parameters hold values set at run time, so #101 is not known here;
+		// G28 returns Z to home, a known machine position (from memory)
 		const lines = withLine(withLine(CLEAN, 10, 'G0 Z#101'), 14, 'G0 Z#102');
 		const r = checkProgram(program(...lines), PUMP);
 		expect(r.findings.map((f) => [f.kind, f.severity, f.data])).toEqual([

@@ -1,5 +1,5 @@
 /**
- * The program check on the programs shops really run (issue 14): each numbered example of
+ * The program check on the programs shops really run, in both dialects: each numbered example of
  * what went wrong, with the dialect rule or shop practice behind the expected answer named.
  * Setup: PUMP (test-data.ts) — G54 part top 1.25 in, G55 4.5 in above the reference,
  * clearance height 5.5 in, H1 = −15, H2 = −14.5, 20 in of Z travel.
