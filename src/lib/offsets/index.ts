@@ -66,6 +66,7 @@ export {
 	TABLE_FINDING_KINDS,
 	PROGRAM_FINDING_KINDS,
 	READBACK_FINDING_KINDS,
+	COMPONENT_FINDING_KINDS,
 	FINDING_KINDS,
 	findingKey,
 	subjectKey,
@@ -186,3 +187,4 @@ export {
 	type CutterRegisterMode
 } from './wear';
 export { toolOffsetFromPresetter } from './presetter';
+export { checkEdgeValue, checkWearValue, type PreviousEdge } from './component-checks';
