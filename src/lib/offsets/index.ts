@@ -90,7 +90,11 @@ export {
 	LOAD_PROGRAM_CAUTIONS,
 	type LoadProgramOptions
 } from './load-program';
-export { parseLoadProgram } from './parse-load-program';
+export {
+	parseLoadProgram,
+	parseLoadProgramWithComponents,
+	type LoadProgramComponents
+} from './parse-load-program';
 export { gaugeStack } from './gauge-blocks';
 export { GAUGE_SETS, findGaugeSet, gaugeSetBlocks, type GaugeSet } from './gauge-sets';
 export {
