@@ -15,6 +15,10 @@ import {
 	recordToolRegister,
 	toolRegisters
 } from '$lib/server/components/tool-registers';
+import { programComponents } from '$lib/server/components/load-program';
+import { buildLoadProgram } from '$lib/server/setups/load-program';
+import { parseLoadProgramWithComponents } from '$lib/offsets';
+import { engineMachine } from '$lib/server/offsets/machine-state';
 import { provisionShop } from '$lib/server/shops/provision';
 import { testDb, uniqueSuffix } from './db';
 
@@ -198,5 +202,31 @@ describe('wear registers', () => {
 		);
 		// Z is untouched: the length geometry is still the one Z version.
 		expect(z.map((r) => [r.register, Number(r.value)])).toEqual([['3', -13.2417]]);
+	});
+});
+
+describe('load program with components', () => {
+	it('writes X/Y beside Z, names the wear (tool-table style) and withholds an overridden X', async () => {
+		const text = await inShop(async (trx, m) => {
+			const comps = await programComponents(trx, m);
+			// G54 X was saved over a Stop (approach side) above: withheld like an overridden Z.
+			expect(comps.flagged).toEqual([
+				expect.objectContaining({ section: 'work', register: 'G54', component: 'x' })
+			]);
+			const table = {
+				convention: 'reference-touch' as const,
+				units: 'inch' as const,
+				work: { G54: 1.25 },
+				tools: { '3': -13.2417 }
+			};
+			const r = buildLoadProgram(m, table, { title: 'T', filename: 't', components: comps });
+			if (!r.ok) throw new Error(r.reasons.join('; '));
+			return { text: r.text, machine: engineMachine(m) };
+		});
+		expect(text.text).toContain('G10 L2 P1 Y-7.1000 Z1.2500');
+		expect(text.text).toContain('(WITHHELD G54 X SAVED OVER A STOP)');
+		expect(text.text).toContain('(H3 LENGTH WEAR -0.0030)');
+		const back = parseLoadProgramWithComponents(text.text, text.machine);
+		expect(back.components.work).toEqual({ G54: { y: -7.1 } });
 	});
 });
