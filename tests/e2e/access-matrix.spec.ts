@@ -145,7 +145,7 @@ const EXTRA_ACTIONS: Record<string, ShopRoute> = {
 	},
 	'/shops/[shop]/machines/[machine]/components': {
 		allowed: ALL,
-		actions: ['register', 'partPreview', 'partAccept'],
+		actions: ['cutterRegister', 'register', 'partPreview', 'partAccept'],
 		actionsAllowed: ['owner', 'admin', 'lead']
 	}
 };

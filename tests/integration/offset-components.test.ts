@@ -8,7 +8,11 @@ import {
 import { withShop, type ShopRef } from '$lib/server/db/tenant';
 import { getMachine, type MachineRecord } from '$lib/server/offsets/machine-state';
 import { recordEdgeReading } from '$lib/server/components/edge';
-import { componentHistory, currentComponents } from '$lib/server/components/store';
+import {
+	componentHistory,
+	currentComponents,
+	setCutterRegister
+} from '$lib/server/components/store';
 import {
 	acceptPartWear,
 	previewPartWear,
@@ -228,5 +232,33 @@ describe('load program with components', () => {
 		expect(text.text).toContain('(H3 LENGTH WEAR -0.0030)');
 		const back = parseLoadProgramWithComponents(text.text, text.machine);
 		expect(back.components.work).toEqual({ G54: { y: -7.1 } });
+	});
+});
+
+describe('cutter register setting', () => {
+	it('a diameter machine takes the whole size error; the setting is refused once radius values exist', async () => {
+		await inShop((trx, m) => setCutterRegister(trx, m, 'diameter', actor));
+		const form = partMeasurementSchema.parse({
+			h: '3',
+			feature: 'outside',
+			nominal: '1.0000',
+			measured: '1.0020'
+		});
+		// Outside too big: cut more → negative; diameter register takes the whole 0.002
+		// (common shop practice; wear.ts).
+		const p = await inShop((trx, m) => previewPartWear(trx, m, form));
+		expect(p.component).toBe('radius-wear');
+		expect(p.change).toBe(-0.002);
+		await inShop((trx, m) =>
+			recordToolRegister(
+				trx,
+				m,
+				toolRegisterSchema.parse({ h: '3', component: 'radius', value: '0.3750' }),
+				actor
+			)
+		);
+		await expect(
+			inShop((trx, m) => setCutterRegister(trx, m, 'radius', actor))
+		).rejects.toMatchObject({ issues: [expect.objectContaining({ field: 'cutterRegister' })] });
 	});
 });

@@ -92,3 +92,8 @@ export const partMeasurementSchema = z.object({
 	...override
 });
 export type PartMeasurementForm = z.infer<typeof partMeasurementSchema>;
+
+/** What the machine's cutter compensation (D) registers hold: a machine setting. */
+export const cutterRegisterSchema = z.object({
+	cutterRegister: z.enum(['radius', 'diameter'], { message: 'Choose radius or diameter.' })
+});

@@ -10,6 +10,7 @@ import { findingTitle, formatWithUnits, type CutterRegisterMode } from '$lib/off
 import { audit } from '../audit';
 import type { MachineRecord } from '../offsets/machine-state';
 import {
+	ReadingInputError,
 	requireOverride,
 	type Actor,
 	type BriefFinding,
@@ -233,4 +234,36 @@ export async function writeComponentVersion(
 		);
 	}
 	return id;
+}
+
+/**
+ * Sets what the machine's D registers hold. Refused while the machine has radius values: they
+ * would silently change meaning (a 0.25 radius read as a 0.25 diameter).
+ */
+export async function setCutterRegister(
+	trx: Knex.Transaction,
+	machine: MachineRecord,
+	mode: CutterRegisterMode,
+	actor: Actor
+): Promise<void> {
+	const before = await cutterRegisterOf(trx, machine.id);
+	if (before === mode) return;
+	const held = await trx('current_offset_components')
+		.where({ machine_id: machine.id, register_kind: 'tool' })
+		.whereIn('component', ['radius', 'radius-wear'])
+		.first('register');
+	if (held)
+		throw ReadingInputError.of(
+			'cutterRegister',
+			`${machine.name} already holds ${before} values (e.g. D${held.register}); they would change meaning. Check the control's setting first; changing it needs those values re-entered by hand after.`
+		);
+	await trx('machines').where({ id: machine.id }).update({ cutter_register: mode });
+	await audit(trx, {
+		actorUserId: actor.id,
+		actorEmail: actor.email,
+		ip: actor.ip,
+		action: 'machine.cutter-register',
+		target: `machine:${machine.id}`,
+		detail: { machineId: machine.id, from: before, to: mode }
+	});
 }

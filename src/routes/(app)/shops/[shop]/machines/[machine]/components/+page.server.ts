@@ -1,5 +1,6 @@
 import { fail, redirect } from '@sveltejs/kit';
 import {
+	cutterRegisterSchema,
 	edgeReadingSchema,
 	partMeasurementSchema,
 	toolRegisterSchema
@@ -11,7 +12,7 @@ import { machineFromParam } from '$lib/server/machines/load';
 import { actorOf } from '$lib/server/readings/form';
 import { previewEdgeReading, recordEdgeReading } from '$lib/server/components/edge';
 import { readForm, refuseForm } from '$lib/server/components/form';
-import { currentComponents } from '$lib/server/components/store';
+import { currentComponents, setCutterRegister } from '$lib/server/components/store';
 import {
 	acceptPartWear,
 	previewPartWear,
@@ -81,6 +82,24 @@ export const load: PageServerLoad = async (event) => {
 };
 
 export const actions: Actions = {
+	cutterRegister: async (event) => {
+		const { shop, user } = await requireMember(event, 'machines.write');
+		const f = await readForm(event.request, cutterRegisterSchema);
+		if (!f.ok) return fail(400, { which: 'cutter', values: f.raw, issues: f.issues });
+		try {
+			await withShop(shop, async (trx) =>
+				setCutterRegister(
+					trx,
+					await machineFromParam(trx, event.params.machine),
+					f.data.cutterRegister,
+					actorOf(event, user)
+				)
+			);
+		} catch (e) {
+			return refuseForm('cutter', f.raw, e);
+		}
+		redirect(303, `${event.url.pathname}?saved=cutter#wear`);
+	},
 	edgePreview: async (event) => {
 		const { shop } = await requireMember(event, 'setups.write');
 		const f = await readForm(event.request, edgeReadingSchema);
