@@ -91,6 +91,7 @@ test('a lead enters a shallow pocket depth on T3 and accepts the proposed wear',
 	await expect(page.getByTestId('saved')).toBeVisible();
 	const expected = (wearBefore - 0.002).toFixed(4);
 	await expect(page.getByTestId('length-wear-3')).toHaveText(`${expected} in`);
+	await expect(page.getByTestId('component-history')).toContainText('measured part: the floor is');
 });
 
 test('the setup load program carries X, Y, Z and the wear line, and reads back the same', async ({

@@ -267,3 +267,32 @@ export async function setCutterRegister(
 		detail: { machineId: machine.id, from: before, to: mode }
 	});
 }
+
+/** The machine's newest component versions (every register), newest first, for the page. */
+export async function recentComponentVersions(
+	trx: Knex.Transaction,
+	machineId: number,
+	limit = 30
+): Promise<(ComponentVersion & { label: string })[]> {
+	const rows = await trx('offset_component_versions as v')
+		.leftJoin('public.users as u', 'u.id', 'v.created_by')
+		.where('v.machine_id', machineId)
+		.orderBy([
+			{ column: 'v.created_at', order: 'desc' },
+			{ column: 'v.id', order: 'desc' }
+		])
+		.limit(limit)
+		.select('v.*', 'u.name as by_name');
+	return rows.map((r) => ({
+		id: Number(r.id),
+		label: componentLabel(r.register_kind, r.register, r.component),
+		value: Number(r.value),
+		source: r.source,
+		reason: r.reason,
+		overrideReason: r.override_reason,
+		by: r.by_name ?? null,
+		at: new Date(r.created_at).toISOString(),
+		edgeReadingId: r.edge_reading_id === null ? null : Number(r.edge_reading_id),
+		partMeasurementId: r.part_measurement_id === null ? null : Number(r.part_measurement_id)
+	}));
+}

@@ -12,7 +12,11 @@ import { machineFromParam } from '$lib/server/machines/load';
 import { actorOf } from '$lib/server/readings/form';
 import { previewEdgeReading, recordEdgeReading } from '$lib/server/components/edge';
 import { readForm, refuseForm } from '$lib/server/components/form';
-import { currentComponents, setCutterRegister } from '$lib/server/components/store';
+import {
+	currentComponents,
+	recentComponentVersions,
+	setCutterRegister
+} from '$lib/server/components/store';
 import {
 	acceptPartWear,
 	previewPartWear,
@@ -26,7 +30,7 @@ export const load: PageServerLoad = async (event) => {
 	const { shop, role } = await requireMember(event, 'machines.read');
 	return withShop(shop, async (trx) => {
 		const machine = await machineFromParam(trx, event.params.machine);
-		const [components, registers, fixtures, edges] = await Promise.all([
+		const [components, registers, fixtures, edges, versions] = await Promise.all([
 			currentComponents(trx, machine.id),
 			toolRegisters(trx, machine),
 			trx('fixtures')
@@ -42,7 +46,8 @@ export const load: PageServerLoad = async (event) => {
 					{ column: 'e.id', order: 'desc' }
 				])
 				.limit(20)
-				.select('e.*', 'u.name as by')
+				.select('e.*', 'u.name as by'),
+			recentComponentVersions(trx, machine.id)
 		]);
 		const work = fixtures.map((f) => ({
 			register: String(f.register),
@@ -59,6 +64,7 @@ export const load: PageServerLoad = async (event) => {
 		return {
 			machine,
 			work,
+			versions,
 			registers,
 			canLead: can(role, 'machines.write'),
 			edges: edges.map((e) => ({
