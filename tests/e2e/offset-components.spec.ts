@@ -1,6 +1,6 @@
 import { expect, test, type Page } from '@playwright/test';
 import { parseLoadProgramWithComponents } from '../../src/lib/offsets/index';
-import { DEMO_PASSWORD, FERNHILL } from './helpers';
+import { DEMO_PASSWORD, FERNHILL, QUARRY, signedInClient } from './helpers';
 
 /**
  * X/Y, radius and wear (issue 20) on a tablet (820×1180), as the demo people: an operator
@@ -117,4 +117,27 @@ test('the setup load program carries X, Y, Z and the wear line, and reads back t
 	expect(back.components.work.G54).toEqual({ x: -12.3, y: -7.1003 });
 	expect(back.components.tools['3']).toEqual({ lengthWear: wear });
 	expect(back.table.work.G54).toBeDefined();
+});
+
+test('the JSON API: same guard and gate (operator records edges, only leads set wear)', async () => {
+	const api = `/api/v1${SHOP}/machines/1/components`;
+	const operator = await signedInClient(FERNHILL.operator);
+	const lead = await signedInClient(FERNHILL.lead);
+	const outsider = await signedInClient(QUARRY.owner);
+	const wear = { type: 'register', h: '3', component: 'length-wear', value: '-0.0200' };
+	expect((await operator.post(api, { data: wear })).status()).toBe(403);
+	expect((await outsider.post(api, { data: wear })).status()).toBe(404);
+	// Beyond the limit (0.0100 in, shop policy): refused without the override, on its field.
+	const refused = await lead.post(api, { data: wear });
+	expect(refused.status()).toBe(400);
+	expect((await refused.json()).issues[0].field).toBe('overrideReason');
+	const proposal = await lead.post(api, {
+		data: { type: 'part', h: '3', feature: 'depth', nominal: '0.5000', measured: '0.5010' }
+	});
+	expect(proposal.status()).toBe(200);
+	// Too deep: the tool must stop higher → positive length wear (G43 adds, NISTIR 6556 §3.5.11).
+	expect((await proposal.json()).proposal.change).toBe(0.001);
+	const state = await (await operator.get(api)).json();
+	expect(state.tools.find((t: { h: string }) => t.h === '3').lengthWear).toBeLessThan(0);
+	for (const c of [operator, lead, outsider]) await c.dispose();
 });
