@@ -24,6 +24,14 @@ export interface DemoTool {
 	stickout: number;
 	/** Touch-offs, oldest first: days ago, raw machine Z, block height under the tip. */
 	touches: { daysAgo: number; z: number; block?: number; toolChanged?: boolean; reason?: string }[];
+	/** Parts measured after this tool cut them, oldest first: the wear each one called for. */
+	wearFromPart?: {
+		daysAgo: number;
+		feature: 'depth' | 'outside' | 'inside';
+		nominal: number;
+		measured: number;
+		note: string;
+	}[];
 }
 
 export interface DemoFixture {
@@ -32,6 +40,16 @@ export interface DemoFixture {
 	description: string;
 	/** Part-top touch: days ago, raw machine Z, and which tool (T) touched it. */
 	partTop: { daysAgo: number; z: number; withTool: number };
+	/** X/Y edge readings (issue 20): one edge, or two opposite edges for a centre. */
+	edges?: {
+		daysAgo: number;
+		axis: 'X' | 'Y';
+		probe: number;
+		instrument: string;
+		first: [number, 'minus' | 'plus'];
+		second?: [number, 'minus' | 'plus'];
+		feature?: 'outside' | 'inside';
+	}[];
 }
 
 export interface DemoMachine {
@@ -115,13 +133,51 @@ export const demoShops: DemoShop[] = [
 						register: 'G54',
 						name: 'Op A — 6 in vise',
 						description: 'Pump housing rough stock in soft jaws',
-						partTop: { daysAgo: 2, z: -13.0296, withTool: 1 }
+						partTop: { daysAgo: 2, z: -13.0296, withTool: 1 },
+						// Fixed jaw and left end of the stock, 0.2 in edge finder: edge = reading + 0.1.
+						edges: [
+							{
+								daysAgo: 2,
+								axis: 'X',
+								probe: 0.2,
+								instrument: '0.200 in edge finder',
+								first: [-12.4, 'minus']
+							},
+							{
+								daysAgo: 2,
+								axis: 'Y',
+								probe: 0.2,
+								instrument: '0.200 in edge finder',
+								first: [-7.2, 'minus']
+							}
+						]
 					},
 					{
 						register: 'G55',
 						name: 'Op B — fixture plate',
 						description: 'Pump housing flipped, located on two dowels',
-						partTop: { daysAgo: 2, z: -14.7791, withTool: 1 }
+						partTop: { daysAgo: 2, z: -14.7791, withTool: 1 },
+						// Centre of the plate's locating bore, probed from inside on both walls.
+						edges: [
+							{
+								daysAgo: 2,
+								axis: 'X',
+								probe: 0.2,
+								instrument: '0.200 in edge finder',
+								feature: 'inside',
+								first: [-5.4, 'plus'],
+								second: [-4.1, 'minus']
+							},
+							{
+								daysAgo: 2,
+								axis: 'Y',
+								probe: 0.2,
+								instrument: '0.200 in edge finder',
+								feature: 'inside',
+								first: [-8.3, 'plus'],
+								second: [-7, 'minus']
+							}
+						]
 					}
 				],
 				tools: [
@@ -155,7 +211,16 @@ export const demoShops: DemoShop[] = [
 						description: '#7 jobber drill',
 						holder: 'CAT40 ER32 collet',
 						stickout: 3.25,
-						touches: [{ daysAgo: 12, z: -13.8877, block: 0.1 }]
+						touches: [{ daysAgo: 12, z: -13.8877, block: 0.1 }],
+						wearFromPart: [
+							{
+								daysAgo: 1,
+								feature: 'depth',
+								nominal: 0.75,
+								measured: 0.748,
+								note: 'Op A relief pocket measured 0.002 in shallow on part 12.'
+							}
+						]
 					},
 					{
 						t: 4,

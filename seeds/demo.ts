@@ -5,6 +5,7 @@ import { provisionShop } from '$lib/server/shops/provision';
 import { getSetupDetail } from '$lib/server/setups/detail';
 import { getMachine } from '$lib/server/offsets/machine-state';
 import { recordReadback } from '$lib/server/readbacks/record';
+import { seedComponents } from './demo-components';
 import { demoShops, DEMO_PASSWORD, type DemoMachine } from './demo-data';
 
 const DAY = 86_400_000;
@@ -208,6 +209,8 @@ async function seedMachine(
 			created_at: ctx.ago(f.partTop.daysAgo)
 		});
 	}
+
+	await seedComponents(trx, machineId, m, ctx);
 
 	for (const s of m.setups) {
 		const [setup] = await trx('setups')

@@ -105,6 +105,12 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	'/shops/[shop]/machines/[machine]/machine-mode': { allowed: ALL },
 	'/api/v1/shops/[shop]/machines/[machine]/offsets': { allowed: ALL },
 	'/api/v1/shops/[shop]/machines/[machine]/readings': { allowed: ALL },
+	// Issue 20: X/Y from edge readings for every role; tool registers and wear are lead and up.
+	'/shops/[shop]/machines/[machine]/components': {
+		allowed: ALL,
+		actions: ['edgePreview', 'edgeSave']
+	},
+	'/api/v1/shops/[shop]/machines/[machine]/components': { allowed: ALL },
 	'/api/v1/shops/[shop]/setups': { allowed: ALL },
 	'/api/v1/shops/[shop]/setups/[setup]': { allowed: ALL },
 	// Fleet board and findings: everyone reads; checking, scheduling and acting are lead and up.
@@ -135,6 +141,11 @@ const EXTRA_ACTIONS: Record<string, ShopRoute> = {
 	'/shops/[shop]': {
 		allowed: ALL,
 		actions: ['dismissFirstSteps'],
+		actionsAllowed: ['owner', 'admin', 'lead']
+	},
+	'/shops/[shop]/machines/[machine]/components': {
+		allowed: ALL,
+		actions: ['cutterRegister', 'register', 'partPreview', 'partAccept'],
 		actionsAllowed: ['owner', 'admin', 'lead']
 	}
 };

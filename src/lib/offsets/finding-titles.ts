@@ -32,6 +32,8 @@ export const FINDING_TITLE: Readonly<Record<FindingKind | AppFindingKind, string
 	'heights-unknown': 'Heights the check cannot follow',
 	'readback-mismatch': 'Control holds a different value',
 	unverified: 'Changed but not verified at the control',
+	'approach-side': 'Edge touched from the other side than before',
+	'wear-limit': "Wear beyond the shop's limit",
 	override: 'Saved over a Stop (override)'
 };
 

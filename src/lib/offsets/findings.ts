@@ -35,11 +35,15 @@ export const PROGRAM_FINDING_KINDS = [
 /** Kinds from read-backs at the control, made by the shop check and the read-back itself. */
 export const READBACK_FINDING_KINDS = ['readback-mismatch', 'unverified'] as const;
 
+/** Kinds from the other offset components (issue 20): X/Y edges and wear registers. */
+export const COMPONENT_FINDING_KINDS = ['approach-side', 'wear-limit'] as const;
+
 /** Every finding kind. */
 export const FINDING_KINDS = [
 	...TABLE_FINDING_KINDS,
 	...PROGRAM_FINDING_KINDS,
-	...READBACK_FINDING_KINDS
+	...READBACK_FINDING_KINDS,
+	...COMPONENT_FINDING_KINDS
 ] as const;
 
 export type TableFindingKind = (typeof TABLE_FINDING_KINDS)[number];

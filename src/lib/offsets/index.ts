@@ -66,6 +66,7 @@ export {
 	TABLE_FINDING_KINDS,
 	PROGRAM_FINDING_KINDS,
 	READBACK_FINDING_KINDS,
+	COMPONENT_FINDING_KINDS,
 	FINDING_KINDS,
 	findingKey,
 	subjectKey,
@@ -89,7 +90,11 @@ export {
 	LOAD_PROGRAM_CAUTIONS,
 	type LoadProgramOptions
 } from './load-program';
-export { parseLoadProgram } from './parse-load-program';
+export {
+	parseLoadProgram,
+	parseLoadProgramWithComponents,
+	type LoadProgramComponents
+} from './parse-load-program';
 export { gaugeStack } from './gauge-blocks';
 export { GAUGE_SETS, findGaugeSet, gaugeSetBlocks, type GaugeSet } from './gauge-sets';
 export {
@@ -186,3 +191,4 @@ export {
 	type CutterRegisterMode
 } from './wear';
 export { toolOffsetFromPresetter } from './presetter';
+export { checkEdgeValue, checkWearValue, type PreviousEdge } from './component-checks';

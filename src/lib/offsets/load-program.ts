@@ -8,6 +8,20 @@
  * - 'iso', shown as "Length registers, G10 L10 (P H number, R length)": `G10 L10 P<H> R<length>`
  *   (length geometry), and `G10 L20 P<n> Z…` for extended work offset n, up to the number the
  *   machine says it has. Under G91 these add, so we always write G90.
+ *
+ * The other components (issue 20, `options.components`, machine units):
+ * - X and Y of a work offset go on its G10 L2/L20 line beside Z (NISTIR 6556 §3.5.5: "G10 L2
+ *   P1 X3.5 Y17.2" sets G54's X and Y; only the axes given change).
+ * - 'rs274ngc': the radius geometry as the R word of `G10 L1 P<tool> Z<length> R<radius>`
+ *   (LinuxCNC G-code manual, G10 L1: R = tool radius; from memory); that tool table keeps a
+ *   radius, so a machine set to keep diameters is refused; it has no wear registers in
+ *   NIST RS274NGC v3, so wear is listed in comments to enter by hand, never folded into
+ *   the geometry.
+ * - 'iso': `G10 L11 P<H> R<length wear>`, `G10 L12 P<D> R<radius or diameter>`,
+ *   `G10 L13 P<D> R<radius or diameter wear>` (ISO-style mill programming manual §1.2.10,
+ *   SOURCES.md 3: L10/L11/L12/L13 = length geometry / length wear / diameter geometry /
+ *   diameter wear; whether L12/L13 hold a radius or a diameter is the control's setting, so
+ *   the program says which in a comment).
  */
 import { OffsetInputError, type OffsetIssue } from './errors';
 import { formatLength } from './format';
@@ -107,7 +121,48 @@ export function loadProgram(
 	// Withheld registers are not written at all (the gate's verdict; see ./gate.ts).
 	const withheld = o.withheld ?? [];
 	const isWithheld = (section: 'work' | 'tools', key: string) =>
-		withheld.some((w) => w.section === section && sameRegister(section, w.register, key));
+		withheld.some(
+			(w) => w.section === section && !w.component && sameRegister(section, w.register, key)
+		);
+	const componentWithheld = (section: 'work' | 'tools', key: string, component: string) =>
+		isWithheld(section, key) ||
+		withheld.some(
+			(w) =>
+				w.section === section && w.component === component && sameRegister(section, w.register, key)
+		);
+	const comps = o.components ?? {};
+	const cutter = comps.cutterRegister ?? 'radius';
+	const workXY = Object.fromEntries(
+		Object.entries(comps.work ?? {})
+			.map(([k, v]) => [canonicalRegister(k) ?? k, v] as const)
+			.map(([k, v]) => [
+				k,
+				{
+					...(v.x !== undefined && !componentWithheld('work', k, 'x') ? { x: v.x } : {}),
+					...(v.y !== undefined && !componentWithheld('work', k, 'y') ? { y: v.y } : {})
+				}
+			])
+			.filter(([, v]) => Object.keys(v).length > 0)
+	) as Record<string, { x?: number; y?: number }>;
+	const toolComps = Object.fromEntries(
+		Object.entries(comps.tools ?? {})
+			.map(([k, v]) => [canonicalH(k) ?? k, v] as const)
+			.map(([k, v]) => [
+				k,
+				{
+					...(v.radius !== undefined && !componentWithheld('tools', k, 'radius')
+						? { radius: v.radius }
+						: {}),
+					...(v.lengthWear !== undefined && !componentWithheld('tools', k, 'length-wear')
+						? { lengthWear: v.lengthWear }
+						: {}),
+					...(v.radiusWear !== undefined && !componentWithheld('tools', k, 'radius-wear')
+						? { radiusWear: v.radiusWear }
+						: {})
+				}
+			])
+			.filter(([, v]) => Object.keys(v).length > 0)
+	) as Record<string, { radius?: number; lengthWear?: number; radiusWear?: number }>;
 	const warningFor = (section: 'work' | 'tools', key: string) =>
 		(o.warnings ?? []).find((w) => w.section === section && sameRegister(section, w.register, key));
 	t = {
@@ -121,8 +176,14 @@ export function loadProgram(
 	const issues: OffsetIssue[] = [];
 	const fmt = (v: number) => formatLength(v, m.units, resolution);
 	const body: string[] = [];
-	if (Object.keys(t.work).length > 0) body.push('(WORK OFFSETS Z)');
-	for (const [register, value] of Object.entries(t.work)) {
+	const hasXY = Object.keys(workXY).length > 0;
+	const workKeys = [
+		...Object.keys(t.work),
+		...Object.keys(workXY).filter((k) => !(k in t.work) && !isWithheld('work', k))
+	];
+	if (workKeys.length > 0) body.push(hasXY ? '(WORK OFFSETS X Y Z)' : '(WORK OFFSETS Z)');
+	for (const register of workKeys) {
+		const value: number | undefined = t.work[register];
 		const words = workWords(style, register);
 		if (words === null) {
 			issues.push({
@@ -145,7 +206,7 @@ export function loadProgram(
 			});
 			continue;
 		}
-		if (Math.abs(toMicro(value)) > span)
+		if (value !== undefined && Math.abs(toMicro(value)) > span)
 			issues.push({
 				field: `table.work.${register}`,
 				value,
@@ -153,7 +214,13 @@ export function loadProgram(
 			});
 		const warn = warningFor('work', register);
 		if (warn) body.push(`(${commentText(`WARNING ${register} ${warn.reason}`)})`);
-		body.push(`${words} Z${fmt(value)}`);
+		const xy = workXY[register] ?? {};
+		const axes = [
+			xy.x !== undefined ? `X${fmt(xy.x)}` : '',
+			xy.y !== undefined ? `Y${fmt(xy.y)}` : '',
+			value !== undefined ? `Z${fmt(value)}` : ''
+		].filter(Boolean);
+		body.push(`${words} ${axes.join(' ')}`);
 	}
 	if (Object.keys(t.tools).length > 0) body.push('(TOOL LENGTH OFFSETS)');
 	for (const [h, value] of Object.entries(t.tools)) {
@@ -165,7 +232,48 @@ export function loadProgram(
 			});
 		const warn = warningFor('tools', h);
 		if (warn) body.push(`(${commentText(`WARNING H${h} ${warn.reason}`)})`);
-		body.push(style === 'iso' ? `G10 L10 P${h} R${fmt(value)}` : `G10 L1 P${h} Z${fmt(value)}`);
+		const radius = toolComps[h]?.radius;
+		body.push(
+			style === 'iso'
+				? `G10 L10 P${h} R${fmt(value)}`
+				: `G10 L1 P${h} Z${fmt(value)}${radius !== undefined ? ` R${fmt(radius)}` : ''}`
+		);
+	}
+	const toolKeys = Object.keys(toolComps).sort((a, b) => Number(a) - Number(b));
+	const handWear: string[] = [];
+	const cutterWord = cutter === 'diameter' ? 'DIAMETER' : 'RADIUS';
+	if (toolKeys.length > 0) {
+		if (
+			style === 'rs274ngc' &&
+			cutter === 'diameter' &&
+			toolKeys.some((h) => toolComps[h].radius !== undefined)
+		)
+			issues.push({
+				field: 'options.components.cutterRegister',
+				value: cutter,
+				message: `is diameter, but an ${CONTROL_STYLE_LABEL[style]} control takes the tool radius (G10 L1 R); set the machine's cutter registers to radius`
+			});
+		const isoLines: string[] = [];
+		for (const h of toolKeys) {
+			const c = toolComps[h];
+			if (style === 'iso') {
+				if (c.lengthWear !== undefined) isoLines.push(`G10 L11 P${h} R${fmt(c.lengthWear)}`);
+				if (c.radius !== undefined) isoLines.push(`G10 L12 P${h} R${fmt(c.radius)}`);
+				if (c.radiusWear !== undefined) isoLines.push(`G10 L13 P${h} R${fmt(c.radiusWear)}`);
+			} else {
+				// G10 L1 writes length and radius together: without the length (withheld or never
+				// measured) the radius is left for the operator, named in a comment.
+				if (c.radius !== undefined && !(h in t.tools))
+					handWear.push(`D${h} RADIUS ${fmt(c.radius)} - NOT WRITTEN WITHOUT H${h} LENGTH`);
+				if (c.lengthWear !== undefined) handWear.push(`H${h} LENGTH WEAR ${fmt(c.lengthWear)}`);
+				if (c.radiusWear !== undefined)
+					handWear.push(`D${h} ${cutterWord} WEAR ${fmt(c.radiusWear)}`);
+			}
+		}
+		if (isoLines.length > 0) {
+			body.push(`(WEAR AND ${cutterWord} REGISTERS)`);
+			body.push(...isoLines);
+		}
 	}
 	if (issues.length > 0) throw new OffsetInputError(issues);
 
@@ -180,14 +288,37 @@ export function loadProgram(
 		lines.push(`(MASTER TOOL H${t.masterTool})`);
 	if (converted)
 		lines.push(`(VALUES CONVERTED FROM ${table.units.toUpperCase()} TO ${m.units.toUpperCase()})`);
-	for (const c of LOAD_PROGRAM_CAUTIONS) lines.push(`(${c})`);
+	if (
+		toolKeys.some((h) => toolComps[h].radius !== undefined || toolComps[h].radiusWear !== undefined)
+	)
+		lines.push(`(CUTTER REGISTERS ${cutterWord})`);
+	for (const c of LOAD_PROGRAM_CAUTIONS)
+		lines.push(
+			hasXY && c.startsWith('ONLY Z')
+				? '(X AND Y ARE WRITTEN ONLY WHERE GIVEN - OTHER AXES STAY AS THEY ARE)'
+				: `(${c})`
+		);
+	const wearWritten =
+		style === 'iso' &&
+		toolKeys.some(
+			(h) => toolComps[h].lengthWear !== undefined || toolComps[h].radiusWear !== undefined
+		);
 	if (style === 'iso')
-		lines.push('(WEAR VALUES ARE LEFT AS THEY ARE - CONFIRM EACH ONE ON THE CONTROL)');
+		lines.push(
+			wearWritten
+				? '(WEAR WRITTEN ONLY FOR THE REGISTERS BELOW - CONFIRM EACH ONE ON THE CONTROL)'
+				: '(WEAR VALUES ARE LEFT AS THEY ARE - CONFIRM EACH ONE ON THE CONTROL)'
+		);
+	if (handWear.length > 0) {
+		lines.push('(NOT WRITTEN BY THIS G10 FORM - CHECK OR ENTER THESE BY HAND:)');
+		for (const w of handWear) lines.push(`(${commentText(w)})`);
+	}
 	if (withheld.length > 0) {
 		lines.push('(WITHHELD - NOT WRITTEN, THE CONTROL KEEPS ITS OLD VALUE:)');
 		for (const w of withheld) {
 			const label = w.section === 'tools' ? `H${canonicalH(w.register) ?? w.register}` : w.register;
-			lines.push(`(${commentText(`WITHHELD ${label} ${w.reason}`)})`);
+			const part = w.component ? ` ${w.component.replace('-', ' ')}` : '';
+			lines.push(`(${commentText(`WITHHELD ${label}${part} ${w.reason}`)})`);
 		}
 	}
 	lines.push(`${m.units === 'inch' ? 'G20' : 'G21'} G90`);

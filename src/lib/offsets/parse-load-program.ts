@@ -96,6 +96,11 @@ interface ReadState {
 	work: Record<string, number>;
 	tools: Record<string, number>;
 	wear: Record<string, number>;
+	/** Load programs only (issue 20): X/Y of work offsets, radius geometry and wear by H/D. */
+	xy: Record<string, { x?: number; y?: number }>;
+	radius: Record<string, number>;
+	radiusWear: Record<string, number>;
+	cutter?: 'radius' | 'diameter';
 	/** Value text and line per register, kept to flag values without a decimal point at the end. */
 	raw: { section: ReadbackSection; register: string; text: string; line: number }[];
 	other: OtherRegister[];
@@ -113,6 +118,9 @@ function readG10(text: string, mode: Mode, m: Machine | undefined): ReadState {
 		work: {},
 		tools: {},
 		wear: {},
+		xy: {},
+		radius: {},
+		radiusWear: {},
 		raw: [],
 		other: [],
 		notes: new Set(),
@@ -150,6 +158,8 @@ function readG10(text: string, mode: Mode, m: Machine | undefined): ReadState {
 			}
 			const master = /^MASTER TOOL\s+H?(\d+)$/.exec(c);
 			if (master) s.masterTool = canonicalH(master[1]) ?? undefined;
+			const cutter = /^CUTTER REGISTERS\s+(RADIUS|DIAMETER)$/.exec(c);
+			if (cutter) s.cutter = cutter[1] === 'DIAMETER' ? 'diameter' : 'radius';
 		}
 		let code = raw
 			.replace(/\([^)]*\)/g, '')
@@ -213,6 +223,10 @@ function readG10(text: string, mode: Mode, m: Machine | undefined): ReadState {
 					s.notes.add(
 						'Only Z and tool lengths are compared: X, Y and other axes in the file are left out.'
 					);
+			}
+			if (!lenient) {
+				const done = readComponents(n, raw, ws, l, p, s, m, fail, setStyle);
+				if (done) return;
 			}
 			const valueWord = lenient
 				? l === '2' || l === '20' || l === '1'
@@ -336,6 +350,126 @@ function readG10(text: string, mode: Mode, m: Machine | undefined): ReadState {
 		}
 	});
 	return s;
+}
+
+/**
+ * The component words of a load program line (issue 20), read in load-program mode only: X/Y
+ * on a work offset line, R beside Z on an RS274NGC-style G10 L1 (the radius), and ISO-style
+ * G10 L11 (length wear), L12 (radius or diameter geometry) and L13 (its wear). Returns true
+ * when the line is fully read here (or refused); false to let the Z/length reader go on.
+ */
+function readComponents(
+	n: number,
+	raw: string,
+	ws: Word[],
+	l: string | undefined,
+	p: number,
+	s: ReadState,
+	m: Machine | undefined,
+	fail: (n: number, value: unknown, message: string) => void,
+	setStyle: (n: number, st: ControlStyle, line: string) => boolean
+): boolean {
+	const xw = ws.find((w) => w.letter === 'X');
+	const yw = ws.find((w) => w.letter === 'Y');
+	const zw = ws.find((w) => w.letter === 'Z');
+	const rw = ws.find((w) => w.letter === 'R');
+	for (const w of [xw, yw, rw]) {
+		if (w && !w.text.includes('.')) {
+			fail(
+				n,
+				w.text,
+				'has no decimal point; some controls read such a number as increments, so load programs always write one'
+			);
+			return true;
+		}
+	}
+	const units = s.units!;
+	const read = (w: Word) => readValue(w.text, s.style ?? 'rs274ngc', units, m);
+	if (xw || yw) {
+		if (l !== '2' && l !== '20') {
+			fail(n, raw, 'X and Y are written only on work offset lines (G10 L2 or L20)');
+			return true;
+		}
+		const register =
+			l === '2' && p >= 1 && p <= 6
+				? STANDARD_WORK_REGISTERS[p - 1]
+				: l === '20' && p >= 1 && p <= MAX_EXTENDED_REGISTER
+					? EXTENDED_LABEL(p)
+					: null;
+		if (register === null) return false; // the Z reader names what is wrong with P
+		if (l === '20' && !setStyle(n, 'iso', raw)) return true;
+		if (register in s.xy) {
+			fail(n, raw, `sets ${register} X/Y a second time`);
+			return true;
+		}
+		s.xy[register] = {
+			...(xw ? { x: read(xw) } : {}),
+			...(yw ? { y: read(yw) } : {})
+		};
+		return !zw; // with Z, the Z reader records Z as well
+	}
+	if (l === '1' && rw && zw) {
+		const h = canonicalH(String(p));
+		if (h !== null) s.radius[h] = read(rw);
+		return false;
+	}
+	if (l === '11' || l === '12' || l === '13') {
+		if (!setStyle(n, 'iso', raw)) return true;
+		if (!rw || zw) {
+			fail(n, raw, `ISO-style G10 L${l} writes the value with R`);
+			return true;
+		}
+		const h = canonicalH(String(p));
+		if (h === null) {
+			fail(n, p, 'is not a valid H/D number (1–9999)');
+			return true;
+		}
+		const target = l === '11' ? s.wear : l === '12' ? s.radius : s.radiusWear;
+		if (h in target) {
+			fail(n, raw, `sets register ${h} of G10 L${l} a second time`);
+			return true;
+		}
+		target[h] = read(rw);
+		return true;
+	}
+	return false;
+}
+
+/** What a load program carries beside the Z table (issue 20), in the program's units. */
+export interface LoadProgramComponents {
+	work: Record<string, { x?: number; y?: number }>;
+	tools: Record<string, { radius?: number; lengthWear?: number; radiusWear?: number }>;
+	cutterRegister?: 'radius' | 'diameter';
+}
+
+/**
+ * Reads a load program back with its components: the Z table as `parseLoadProgram` gives it,
+ * and the X/Y, radius and wear lines, so parseLoadProgramWithComponents(loadProgram(m, t,
+ * { components })) gives back the same table and components.
+ * @throws OffsetInputError naming the line, as parseLoadProgram
+ */
+export function parseLoadProgramWithComponents(
+	text: string,
+	machine?: Machine
+): { table: OffsetTable; components: LoadProgramComponents } {
+	const table = parseLoadProgram(text, machine);
+	const m = machine === undefined ? undefined : parseMachine(machine);
+	const s = readG10(text, 'load-program', m);
+	const tools: LoadProgramComponents['tools'] = {};
+	const put = (src: Record<string, number>, key: 'radius' | 'lengthWear' | 'radiusWear') => {
+		for (const [h, v] of Object.entries(src)) tools[h] = { ...tools[h], [key]: v };
+	};
+	put(s.radius, 'radius');
+	put(s.wear, 'lengthWear');
+	put(s.radiusWear, 'radiusWear');
+	return {
+		table,
+		components: {
+			work: s.xy,
+			tools,
+			...(s.cutter ? { cutterRegister: s.cutter } : {})
+		}
+	};
 }
 
 /**

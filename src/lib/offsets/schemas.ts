@@ -278,14 +278,41 @@ export const loadProgramOptionsSchema = z.object({
 	 */
 	withheld: z.array(loadProgramNoteSchema()).optional(),
 	/** Flagged registers a lead chose to include: a warning comment goes right above each line. */
-	warnings: z.array(loadProgramNoteSchema()).optional()
+	warnings: z.array(loadProgramNoteSchema()).optional(),
+	/**
+	 * The other components (issue 20), in the machine's units: a work offset's X and Y, and per
+	 * H/D number the radius geometry and the length and radius wear. See load-program.ts.
+	 */
+	components: loadProgramComponentsSchema().optional()
 });
+
+/** X/Y of work offsets and radius/wear of tools for a load program (machine units). */
+function loadProgramComponentsSchema() {
+	const len = z.number().finite();
+	return z.object({
+		work: z.record(z.string(), z.object({ x: len.optional(), y: len.optional() })).optional(),
+		tools: z
+			.record(
+				z.string(),
+				z.object({
+					radius: len.min(0).optional(),
+					lengthWear: len.optional(),
+					radiusWear: len.optional()
+				})
+			)
+			.optional(),
+		/** What the cutter registers hold on this machine (default radius). */
+		cutterRegister: z.enum(['radius', 'diameter']).optional()
+	});
+}
 
 /** One register named in a load program's comments: section, register and the reason. */
 function loadProgramNoteSchema() {
 	return z.object({
 		section: z.enum(['work', 'tools']),
 		register: z.string().min(1).max(20),
+		/** Only this component of the register (issue 20); absent = the register's Z and all else. */
+		component: z.enum(['x', 'y', 'radius', 'length-wear', 'radius-wear']).optional(),
 		reason: z.string().max(300)
 	});
 }

@@ -11,6 +11,7 @@ import { zod4 } from 'sveltekit-superforms/adapters';
 import { z } from 'zod';
 import * as auth from './auth';
 import * as billing from './billing';
+import * as components from './components';
 import * as conversion from './conversion';
 import * as fleet from './fleet';
 import * as machine from './machine';
@@ -24,6 +25,7 @@ import * as tool from './tool';
 const MODULES = {
 	auth,
 	billing,
+	components,
 	conversion,
 	fleet,
 	machine,

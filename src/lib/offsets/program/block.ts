@@ -5,6 +5,7 @@
 
 /** Letter index: 'A' → 0 … 'Z' → 25. */
 export const L = {
+	D: 3,
 	F: 5,
 	G: 6,
 	H: 7,

@@ -44,6 +44,9 @@ export interface CheckContext {
 	toolRegisters: Map<string, string>;
 	workStatus: Map<string, RegisterState[]>;
 	toolStatus: Map<string, RegisterState[]>;
+	/** Cutter radius registers by D number; undefined when the caller gave none (not checked). */
+	radius: Map<string, number> | undefined;
+	radiusStatus: Map<string, RegisterState[]>;
 	programId: string | undefined;
 	maxPerKind: number;
 	dialect: Dialect;
@@ -107,6 +110,13 @@ export function resolveContext(input: ProgramSetup): CheckContext {
 	const toolStatus = new Map<string, RegisterState[]>();
 	for (const [h, st] of Object.entries(s.registerStatus?.tools ?? {}))
 		toolStatus.set(canonicalH(h)!, asList(st));
+	const radius =
+		s.radius === undefined
+			? undefined
+			: new Map(Object.entries(s.radius).map(([d, v]) => [canonicalH(d)!, v]));
+	const radiusStatus = new Map<string, RegisterState[]>();
+	for (const [d, st] of Object.entries(s.registerStatus?.radius ?? {}))
+		radiusStatus.set(canonicalH(d)!, asList(st));
 	return {
 		units,
 		resolution: resolutionFor(units, machine.resolution),
@@ -125,6 +135,8 @@ export function resolveContext(input: ProgramSetup): CheckContext {
 		toolRegisters,
 		workStatus,
 		toolStatus,
+		radius,
+		radiusStatus,
 		programId: s.programId,
 		maxPerKind: s.maxFindingsPerKind ?? 25,
 		dialect: s.dialect ?? machine.controlStyle ?? 'rs274ngc',

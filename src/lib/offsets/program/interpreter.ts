@@ -265,6 +265,8 @@ export class Interpreter {
 			this.applyH(b.val[L.H], line);
 		}
 		if (work >= 0) this.selectWork(b, work, line);
+		if (this.ctx.radius !== undefined && b.has[L.D] === NUMBER && (b.hasG(410) || b.hasG(420)))
+			this.cutterComp(b.val[L.D], line);
 		if (distance >= 0) this.absolute = distance === 900;
 		if (retract >= 0) this.retractToStart = retract === 980;
 		if (cancel) this.setMotion(-1);
@@ -428,6 +430,31 @@ export class Interpreter {
 		this.compH = '?';
 		this.compValue = Number.NaN;
 		this.loseHeights(line, why.lengthParameter);
+	}
+
+	/**
+	 * G41/G42 D_ (issue 20): the D register's radius must be recorded, and its states (stale,
+	 * never measured) are repeated like an H's. D0 cancels the offset (NISTIR 6556 cutter radius
+	 * compensation, from memory). Each D is reported once per program.
+	 */
+	private cutterComp(value: number, line: number): void {
+		const d = toolText(value);
+		if (d === '' || d === '0') return;
+		if (!this.ctx.radius!.has(d)) {
+			if (this.tally.once(`D-missing:${d}`))
+				this.out.report('unset', 'stop', line, () => ({
+					message: `D${d} is called for cutter compensation (G41/G42) but its radius was never recorded on ${this.ctx.machineName}. Record it before running.`,
+					data: { d }
+				}));
+			return;
+		}
+		for (const state of this.ctx.radiusStatus.get(d) ?? []) {
+			if (this.tally.once(`D-${state}:${d}`))
+				this.out.report(state, state === 'unset' ? 'stop' : 'caution', line, () => ({
+					message: say.state(state, `D${d} (cutter radius)`),
+					data: { d }
+				}));
+		}
 	}
 
 	private lengthOffsetOff(): void {

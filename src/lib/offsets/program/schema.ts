@@ -52,9 +52,17 @@ export const programSetupSchema = z.object({
 	registerStatus: z
 		.object({
 			work: z.record(registerSchema, registerStateSchema).optional(),
-			tools: z.record(hNumberSchema, registerStateSchema).optional()
+			tools: z.record(hNumberSchema, registerStateSchema).optional(),
+			/** Cutter radius (D) registers' states, by D number (issue 20). */
+			radius: z.record(hNumberSchema, registerStateSchema).optional()
 		})
 		.optional(),
+	/**
+	 * Cutter radius (or diameter) geometry by D number (issue 20). When given, a `G41`/`G42` with
+	 * a D not listed here is reported as never measured, like an H missing from the table; when
+	 * absent, D words are not checked.
+	 */
+	radius: z.record(hNumberSchema, lengthSchema).optional(),
 	/** Shop thresholds (clearance margin when the setup gives none). */
 	policy: policySchema.optional(),
 	/** Put into each finding's subject, so keys stay unique across programs. */

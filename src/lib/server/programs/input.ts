@@ -1,12 +1,14 @@
 import type { Knex } from 'knex';
 import {
 	isOffsetInputError,
+	resolvePolicy,
 	programSetupSchema,
 	REGISTER_STATES,
 	type ProgramSetup,
 	type RegisterState
 } from '$lib/offsets';
 import { engineMachine, machineState } from '../offsets/machine-state';
+import { shopPolicy } from '../shops/settings';
 import { engineSetupFor, type SetupDetail } from '../setups/detail';
 
 /**
@@ -85,9 +87,24 @@ export async function programSetupFor(
 		toolNames[String(t.t_number)] = t.description;
 	}
 
+	// Cutter radius (D) registers (issue 20): a G41/G42 D the machine never recorded is unset;
+	// one older than the shop's tool age limit is stale, like an H.
+	const radiusRows = await trx('current_offset_components')
+		.where({ machine_id: machine.id, register_kind: 'tool', component: 'radius' })
+		.select('register', 'value', 'created_at');
+	const radius: Record<string, number> = {};
+	const radiusStatus: Record<string, RegisterState[]> = {};
+	const toolAgeDays = resolvePolicy(await shopPolicy(trx), machine.units).toolMaxAgeDays;
+	for (const r of radiusRows) {
+		radius[r.register] = Number(r.value);
+		if (now.getTime() - new Date(r.created_at).getTime() > toolAgeDays * 86_400_000)
+			radiusStatus[r.register] = ['stale-age'];
+	}
+
 	const programSetup: ProgramSetup = {
 		machine: engineMachine(machine),
 		table: state.table,
+		radius,
 		setup: engineSetup,
 		...(setup.geometry.referenceGaugeLineZ !== null || setup.geometry.masterTouchZ !== null
 			? {
@@ -102,7 +119,7 @@ export async function programSetupFor(
 				}
 			: {}),
 		toolRegisters,
-		registerStatus: { work, tools },
+		registerStatus: { work, tools, radius: radiusStatus },
 		// Dialect from the machine's control style (the engine's default); the picture of the
 		// tip's heights is kept with the result.
 		profile: true

@@ -691,7 +691,11 @@ export function stopsOf(preview: ReadingPreview): BriefFinding[] {
  * Server-side gate of the override: a value the checks call Stop is saved only with "Save
  * anyway" and a reason, whatever the page sent. Nothing is written when it refuses.
  */
-function requireOverride(machine: MachineRecord, preview: ReadingPreview, o: OverrideChoice) {
+export function requireOverride(
+	machine: MachineRecord,
+	preview: ReadingPreview,
+	o: OverrideChoice
+) {
 	const stops = stopsOf(preview);
 	if (stops.length === 0) return null;
 	if (o.requested && o.reason.trim().length > 0) return stops;

@@ -3,6 +3,7 @@ import { describeValue } from '$lib/offsets/errors';
 import { isOffsetInputError, loadProgram, type OffsetTable } from '$lib/offsets';
 import { engineMachine, type MachineRecord } from '../offsets/machine-state';
 import { gateReason, isWithheld, type GatedRegister } from '../offsets/gate';
+import type { ProgramComponents } from '../components/load-program';
 
 /** A load program, or the reasons it cannot be written (the engine's own words). */
 export type LoadProgramResult =
@@ -43,7 +44,14 @@ export function fileSlug(...parts: string[]): string {
 export function buildLoadProgram(
 	machine: MachineRecord,
 	table: OffsetTable,
-	opts: { title: string; filename: string; missing?: string[]; gate?: LoadProgramGate }
+	opts: {
+		title: string;
+		filename: string;
+		missing?: string[];
+		gate?: LoadProgramGate;
+		/** X/Y, radius and wear (issue 20); only those of registers in `table` are written. */
+		components?: ProgramComponents;
+	}
 ): LoadProgramResult {
 	if (opts.missing && opts.missing.length > 0) {
 		return {
@@ -64,20 +72,52 @@ export function buildLoadProgram(
 	const by = opts.gate?.includeFlaggedBy;
 	const withheld = by ? [] : flagged;
 	const included = by ? flagged : [];
+	// Components go with their register: only registers in this table, gated like Z.
+	const comps = opts.components;
+	const keep = <T>(section: 'work' | 'tools', rec: Record<string, T> | undefined) =>
+		Object.fromEntries(
+			Object.entries(rec ?? {}).filter(
+				([k]) => (section === 'work' ? table.work : table.tools)[k] !== undefined
+			)
+		);
+	const compFlagged = (comps?.flagged ?? []).filter(
+		(f) => (f.section === 'work' ? table.work : table.tools)[f.register] !== undefined
+	);
 	// Everything withheld still gives a file: its comments say what was left out and why.
 	try {
 		const text = loadProgram(engineMachine(machine), table, {
+			...(comps
+				? {
+						components: {
+							work: keep('work', comps.values.work),
+							tools: keep('tools', comps.values.tools),
+							cutterRegister: comps.values.cutterRegister
+						}
+					}
+				: {}),
 			title: opts.title.slice(0, 60),
-			withheld: withheld.map((r) => ({
-				section: r.section,
-				register: r.register,
-				reason: `${gateReason(r)} - RE-MEASURE IT`.slice(0, 300)
-			})),
-			warnings: included.map((r) => ({
-				section: r.section,
-				register: r.register,
-				reason: `${gateReason(r)} - INCLUDED BY ${by} - CHECK IT AT THE CONTROL`.slice(0, 300)
-			}))
+			withheld: [
+				...withheld.map((r) => ({
+					section: r.section,
+					register: r.register,
+					reason: `${gateReason(r)} - RE-MEASURE IT`.slice(0, 300)
+				})),
+				...(by ? [] : compFlagged.map((f) => ({ ...f, reason: f.reason.slice(0, 300) })))
+			],
+			warnings: [
+				...included.map((r) => ({
+					section: r.section,
+					register: r.register,
+					reason: `${gateReason(r)} - INCLUDED BY ${by} - CHECK IT AT THE CONTROL`.slice(0, 300)
+				})),
+				...(by
+					? compFlagged.map((f) => ({
+							section: f.section,
+							register: f.register,
+							reason: `${f.component} ${f.reason} - INCLUDED BY ${by}`.slice(0, 300)
+						}))
+					: [])
+			]
 		});
 		return { ok: true, text, filename: `${opts.filename}.nc`, withheld, included };
 	} catch (e) {

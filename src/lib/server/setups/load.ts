@@ -1,6 +1,7 @@
 import { error } from '@sveltejs/kit';
 import type { Knex } from 'knex';
 import { getSetupDetail, setupTable, type SetupDetail } from './detail';
+import type { ProgramComponents } from '../components/load-program';
 import { buildLoadProgram, fileSlug, type LoadProgramResult } from './load-program';
 
 /** The setup named in the URL, or 404 (also for another shop's id: the schema has no such row). */
@@ -18,7 +19,11 @@ export async function setupFromParam(
  * The setup's load program (its fixtures' and tools' registers only), or why not. Stop and stale
  * registers are withheld unless `includeFlaggedBy` (a lead's name) includes them with warnings.
  */
-export function setupLoadProgram(setup: SetupDetail, includeFlaggedBy?: string): LoadProgramResult {
+export function setupLoadProgram(
+	setup: SetupDetail,
+	includeFlaggedBy?: string,
+	components?: ProgramComponents
+): LoadProgramResult {
 	const { table, missing } = setupTable(setup);
 	return buildLoadProgram(setup.machine, table, {
 		title: `${setup.machine.name} ${setup.name}`,
@@ -27,6 +32,7 @@ export function setupLoadProgram(setup: SetupDetail, includeFlaggedBy?: string):
 		gate: {
 			rows: [...setup.fixtures.map((f) => f.gate), ...setup.tools.map((t) => t.gate)],
 			...(includeFlaggedBy ? { includeFlaggedBy } : {})
-		}
+		},
+		...(components ? { components } : {})
 	});
 }

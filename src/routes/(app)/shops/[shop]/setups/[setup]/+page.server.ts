@@ -1,3 +1,4 @@
+import { programComponents } from '$lib/server/components/load-program';
 import { fail, redirect } from '@sveltejs/kit';
 import { superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
@@ -38,7 +39,7 @@ export const load: PageServerLoad = async (event) => {
 			errors: false,
 			id: 'setup'
 		});
-		const program = setupLoadProgram(setup);
+		const program = setupLoadProgram(setup, undefined, await programComponents(trx, setup.machine));
 		const signoff = await latestSignoff(trx, setup.id);
 		return {
 			signoff,

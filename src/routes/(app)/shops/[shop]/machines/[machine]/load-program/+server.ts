@@ -1,3 +1,4 @@
+import { programComponents } from '$lib/server/components/load-program';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
@@ -23,7 +24,8 @@ export const GET: RequestHandler = async (event) => {
 			gate: {
 				rows: [...Object.values(gate.work), ...Object.values(gate.tools)],
 				...(include ? { includeFlaggedBy: user.name || user.email } : {})
-			}
+			},
+			components: await programComponents(trx, machine)
 		});
 		if (result.ok) await auditIncluded(trx, event, user, machine.name, result.included);
 		return { machine, result };

@@ -1,3 +1,4 @@
+import { programComponents } from '$lib/server/components/load-program';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { auditIncluded, includeFlaggedRequested } from '$lib/server/setups/include-flagged';
@@ -15,7 +16,11 @@ export const GET: RequestHandler = async (event) => {
 	const include = includeFlaggedRequested(event, role);
 	const { setup, result } = await withShop(shop, async (trx) => {
 		const setup = await setupFromParam(trx, event.params.setup);
-		const result = setupLoadProgram(setup, include ? user.name || user.email : undefined);
+		const result = setupLoadProgram(
+			setup,
+			include ? user.name || user.email : undefined,
+			await programComponents(trx, setup.machine)
+		);
 		if (result.ok)
 			await auditIncluded(
 				trx,

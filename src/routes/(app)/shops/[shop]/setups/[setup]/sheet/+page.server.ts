@@ -1,3 +1,4 @@
+import { programComponents } from '$lib/server/components/load-program';
 import { CONTROL_STYLE_LABEL } from '$lib/offsets';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
@@ -10,7 +11,7 @@ export const load: PageServerLoad = async (event) => {
 	const { shop, user } = await requireMember(event, 'machines.read');
 	return withShop(shop, async (trx) => {
 		const setup = await setupFromParam(trx, event.params.setup);
-		const program = setupLoadProgram(setup);
+		const program = setupLoadProgram(setup, undefined, await programComponents(trx, setup.machine));
 		const paper = event.url.searchParams.get('paper');
 		return {
 			setup,

@@ -1,3 +1,4 @@
+import { programComponents } from '$lib/server/components/load-program';
 import { json } from '@sveltejs/kit';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
@@ -11,8 +12,11 @@ import type { RequestHandler } from './$types';
  */
 export const GET: RequestHandler = async (event) => {
 	const { shop } = await requireMember(event, 'machines.read');
-	const setup = await withShop(shop, (trx) => setupFromParam(trx, event.params.setup));
-	const program = setupLoadProgram(setup);
+	const { setup, components } = await withShop(shop, async (trx) => {
+		const setup = await setupFromParam(trx, event.params.setup);
+		return { setup, components: await programComponents(trx, setup.machine) };
+	});
+	const program = setupLoadProgram(setup, undefined, components);
 	const base = `/shops/${shop.slug}/setups/${setup.id}`;
 	return json({
 		setup: {
