@@ -24,6 +24,8 @@ import * as m1601 from './20261216000100_create_readbacks';
 import * as m1602 from './20261216000200_notify_board_readbacks';
 import * as m1603 from './20261216000300_add_extended_offsets_to_machines';
 import * as m20261217a from './20261217090000_add_reading_device_time';
+import * as m20261220p1 from './20261220000100_create_tool_library';
+import * as m20261220p2 from './20261220000200_add_presetter_readings';
 
 /**
  * The migrations every shop schema gets, in order. Schema-agnostic: they run with the search
@@ -55,5 +57,7 @@ export const shopMigrations: Record<string, Knex.Migration> = {
 	'20261216000100_create_readbacks': m1601,
 	'20261216000200_notify_board_readbacks': m1602,
 	'20261216000300_add_extended_offsets_to_machines': m1603,
-	'20261217090000_add_reading_device_time': m20261217a
+	'20261217090000_add_reading_device_time': m20261217a,
+	'20261220000100_create_tool_library': m20261220p1,
+	'20261220000200_add_presetter_readings': m20261220p2
 };
