@@ -473,7 +473,7 @@ export const demoShops: DemoShop[] = [
 				presetter: 'Tool-room presetter',
 				daysAgo: 3,
 				pockets: [
-					{ machine: 'Mill 1', t: 6 },
+					{ machine: 'Mill 1', t: 11 },
 					{ machine: 'Mill 4', t: 11 }
 				]
 			},
@@ -488,7 +488,7 @@ export const demoShops: DemoShop[] = [
 				presetter: 'Tool-room presetter',
 				daysAgo: 3,
 				pockets: [
-					{ machine: 'Mill 1', t: 7 },
+					{ machine: 'Mill 1', t: 12 },
 					{ machine: 'Mill 4', t: 12 }
 				]
 			}
