@@ -93,6 +93,8 @@ beforeAll(async () => {
 			};
 			await add('Touch Mill', { convention: 'reference-touch' }, R_MILL);
 			await add('No R Mill', { convention: 'reference-touch' }, null);
+			// An R typed wrong (-3 in on a 20 in mill): every H from it comes out positive.
+			await add('Bad R Mill', { convention: 'reference-touch' }, -3);
 			await add(
 				'Metric Mill',
 				{ convention: 'gauge-length', units: 'mm', z_travel: 510, resolution: 0.001 },
@@ -319,6 +321,55 @@ describe('assigning an assembly to a pocket', () => {
 		expect((err as ReadingInputError).issues[0].message).toMatch(/no gauge-line Z \(R\) recorded/);
 		expect(await count('readings')).toBe(before.r);
 		expect(await count('tools')).toBe(before.t);
+	});
+
+	it('a Stop from the checks is saved only with an override and its reason, like a touch-off', async () => {
+		const m = (trx: Knex.Transaction) => machine(trx, 'Bad R Mill');
+		const plan = await inShop(async (trx) =>
+			previewAssignment(trx, ids['A-1'], await m(trx), { t: 2, h: undefined })
+		);
+		// DESIGN.md §2: reference-touch H = R + L is negative; -3 + 4.125 = +1.125 is Stop.
+		expect(plan.preview.value).toBe(1.125);
+		expect(plan.preview.findings.some((f) => f.severity === 'stop')).toBe(true);
+		const before = await count('readings');
+		const err = await inShop(async (trx) =>
+			assignAssembly(
+				trx,
+				ids['A-1'],
+				await m(trx),
+				assignFormSchema.parse({ machineId: ids['Bad R Mill'], t: '2' }),
+				actor
+			).catch((e) => e)
+		);
+		expect((err as ReadingInputError).issues[0].field).toBe('overrideReason');
+		expect(await count('readings')).toBe(before);
+		const saved = await inShop(async (trx) =>
+			assignAssembly(
+				trx,
+				ids['A-1'],
+				await m(trx),
+				assignFormSchema.parse({
+					machineId: ids['Bad R Mill'],
+					t: '2',
+					override: true,
+					overrideReason: 'checking the R at the control next'
+				}),
+				actor
+			)
+		);
+		const row = await inShop((trx) =>
+			trx('readings').where({ id: saved.readingId }).first('override_reason', 'kind')
+		);
+		expect(row).toEqual({
+			override_reason: 'checking the R at the control next',
+			kind: 'presetter'
+		});
+		const finding = await inShop((trx) =>
+			trx('findings')
+				.where({ machine_id: ids['Bad R Mill'], kind: 'override', status: 'open' })
+				.first('subject')
+		);
+		expect(finding).toEqual({ subject: 'H2' });
 	});
 
 	it('a pocket whose H is taken is refused with the tool that holds it', async () => {
