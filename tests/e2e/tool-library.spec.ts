@@ -31,6 +31,9 @@ test('a lead imports a presetter CSV (decimal comma, mm) and puts an assembly in
 	// The demo's presetter-measured assemblies, shared by Mill 1 and Mill 4.
 	await expect(page.getByTestId('library-table')).toContainText('FH-101');
 	await expect(page.getByTestId('library-table')).toContainText('4.2875 in');
+	await expect(
+		page.getByTestId('library-table').getByRole('row').filter({ hasText: 'FH-101' })
+	).toContainText('Mill 1 T11, Mill 4 T11');
 
 	await page.getByRole('link', { name: 'Import from a presetter' }).click();
 	await page.getByLabel('Assembly name column').fill('Tool');

@@ -291,6 +291,8 @@ describe('assigning an assembly to a pocket', () => {
 		expect(new Set(a!.assignments.map((s) => s.measurementId)).size).toBe(1);
 		expect(a!.assignments.map((s) => s.machineName).sort()).toEqual(['Metric Mill', 'Touch Mill']);
 		expect(await count('assembly_measurements')).toBe(before);
+		const listed = (await inShop((trx) => listAssemblies(trx))).find((x) => x.id === ids['A-1']);
+		expect(listed!.places.sort()).toEqual(['Metric Mill T12', 'Touch Mill T6']);
 	});
 
 	it('master-tool: H = L − L_m, with the master touched on the reference (L_m = touch − R)', async () => {

@@ -41,6 +41,8 @@ export interface Assembly {
 	/** The newest measurement (by measured time): the assembly's length now. */
 	latest: Measurement | null;
 	measurementCount: number;
+	/** The pockets it was last put in, one per machine ("Mill 1 T11"), while that tool is in the rack. */
+	places: string[];
 }
 
 export interface Assignment {
@@ -98,6 +100,24 @@ export async function listAssemblies(trx: Knex.Transaction): Promise<Assembly[]>
 			.as('m')
 	);
 	const byAssembly = new Map(latest.map((m) => [Number(m.assembly_id), toMeasurement(m)]));
+	const placed = await trx('assembly_assignments as s')
+		.join('machines as mc', 'mc.id', 's.machine_id')
+		.join('tools as t', 't.id', 's.tool_id')
+		.whereNull('t.archived_at')
+		.whereNull('mc.archived_at')
+		.distinctOn('s.assembly_id', 's.machine_id')
+		.orderBy([
+			{ column: 's.assembly_id' },
+			{ column: 's.machine_id' },
+			{ column: 's.assigned_at', order: 'desc' }
+		])
+		.select('s.assembly_id', 'mc.name', 't.t_number');
+	const places = new Map<number, string[]>();
+	for (const p of placed) {
+		const list = places.get(Number(p.assembly_id)) ?? [];
+		list.push(`${p.name} T${p.t_number}`);
+		places.set(Number(p.assembly_id), list);
+	}
 	return rows.map((a) => ({
 		id: Number(a.id),
 		name: a.name,
@@ -107,7 +127,8 @@ export async function listAssemblies(trx: Knex.Transaction): Promise<Assembly[]>
 		units: a.units,
 		createdAt: iso(a.created_at),
 		latest: byAssembly.get(Number(a.id)) ?? null,
-		measurementCount: Number(a.n)
+		measurementCount: Number(a.n),
+		places: places.get(Number(a.id)) ?? []
 	}));
 }
 
@@ -158,6 +179,12 @@ export async function getAssembly(
 		createdAt: iso(a.created_at),
 		latest: measurements[0] ?? null,
 		measurementCount: measurements.length,
+		// Newest assignment per machine (the list is newest first).
+		places: [
+			...new Map(
+				assignments.map((s) => [String(s.machine_id), `${s.machine_name} T${s.t_number}`]).reverse()
+			).values()
+		],
 		measurements,
 		assignments: assignments.map((s) => ({
 			id: Number(s.id),
