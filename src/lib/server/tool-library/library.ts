@@ -181,8 +181,10 @@ export async function getAssembly(
 		measurementCount: measurements.length,
 		// Newest assignment per machine (the list is newest first).
 		places: [
-			...new Map(
-				assignments.map((s) => [String(s.machine_id), `${s.machine_name} T${s.t_number}`]).reverse()
+			...new Map<string, string>(
+				assignments
+					.map((s): [string, string] => [String(s.machine_id), `${s.machine_name} T${s.t_number}`])
+					.reverse()
 			).values()
 		],
 		measurements,
