@@ -90,12 +90,27 @@ export interface DemoMachine {
 	}[];
 }
 
+/** A tool-library assembly measured on the presetter (issue 20) and the pockets it is put in. */
+export interface DemoAssembly {
+	name: string;
+	holder: string;
+	cutter: string;
+	stickOut: number;
+	units: 'inch' | 'mm';
+	gaugeLength: number;
+	radius: number;
+	presetter: string;
+	daysAgo: number;
+	pockets: { machine: string; t: number }[];
+}
+
 export interface DemoShop {
 	name: string;
 	slug: string;
 	timeZone: string;
 	people: DemoPerson[];
 	machines: DemoMachine[];
+	assemblies?: DemoAssembly[];
 }
 
 export const demoShops: DemoShop[] = [
@@ -125,6 +140,7 @@ export const demoShops: DemoShop[] = [
 						instrument: '1-2-3 block',
 						height: 3,
 						location: 'Table front-left, bolted down',
+						gaugeLineZ: -19.965,
 						note: 'Set after the table was re-trammed.'
 					}
 				],
@@ -491,6 +507,7 @@ export const demoShops: DemoShop[] = [
 						instrument: 'gauge block',
 						height: 2,
 						location: 'Table centre T-slot',
+						gaugeLineZ: -22.486,
 						note: 'Grade 0 block on a parallel.'
 					}
 				],
@@ -506,6 +523,39 @@ export const demoShops: DemoShop[] = [
 					}
 				],
 				setups: []
+			}
+		],
+		// Measured on the tool-room presetter, shared by Mill 1 and Mill 4 (issue 20).
+		assemblies: [
+			{
+				name: 'FH-101',
+				holder: 'Shrink-fit holder',
+				cutter: '3/8 in 4-flute end mill',
+				stickOut: 1.25,
+				units: 'inch',
+				gaugeLength: 4.2875,
+				radius: 0.1875,
+				presetter: 'Tool-room presetter',
+				daysAgo: 3,
+				pockets: [
+					{ machine: 'Mill 1', t: 11 },
+					{ machine: 'Mill 4', t: 11 }
+				]
+			},
+			{
+				name: 'FH-102',
+				holder: 'ER32 collet chuck',
+				cutter: '#7 jobber drill',
+				stickOut: 2.1,
+				units: 'inch',
+				gaugeLength: 5.041,
+				radius: 0.1005,
+				presetter: 'Tool-room presetter',
+				daysAgo: 3,
+				pockets: [
+					{ machine: 'Mill 1', t: 12 },
+					{ machine: 'Mill 4', t: 12 }
+				]
 			}
 		]
 	},

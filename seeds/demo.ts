@@ -6,6 +6,7 @@ import { getSetupDetail } from '$lib/server/setups/detail';
 import { getMachine } from '$lib/server/offsets/machine-state';
 import { recordReadback } from '$lib/server/readbacks/record';
 import { seedComponents } from './demo-components';
+import { seedAssemblies } from './demo-assemblies';
 import { demoShops, DEMO_PASSWORD, type DemoMachine } from './demo-data';
 
 const DAY = 86_400_000;
@@ -60,6 +61,7 @@ export async function seedDemo(
 				for (const machine of shop.machines) {
 					await seedMachine(trx, machine, { lead, operator, ago, shopId: created.id });
 				}
+				await seedAssemblies(trx, shop.assemblies ?? [], { lead, ago, timeZone: shop.timeZone });
 				await trx('audit_log').insert({
 					actor_user_id: userIds.get(shop.people[0].email),
 					actor_email: shop.people[0].email,

@@ -24,6 +24,8 @@ import * as m1601 from './20261216000100_create_readbacks';
 import * as m1602 from './20261216000200_notify_board_readbacks';
 import * as m1603 from './20261216000300_add_extended_offsets_to_machines';
 import * as m20261217a from './20261217090000_add_reading_device_time';
+import * as m20261220p1 from './20261220000100_create_tool_library';
+import * as m20261220p2 from './20261220000200_add_presetter_readings';
 import * as m20261221a from './20261221090000_add_cutter_register_to_machines';
 import * as m20261221b from './20261221090100_create_edge_readings';
 import * as m20261221c from './20261221090200_create_part_measurements';
@@ -60,6 +62,8 @@ export const shopMigrations: Record<string, Knex.Migration> = {
 	'20261216000200_notify_board_readbacks': m1602,
 	'20261216000300_add_extended_offsets_to_machines': m1603,
 	'20261217090000_add_reading_device_time': m20261217a,
+	'20261220000100_create_tool_library': m20261220p1,
+	'20261220000200_add_presetter_readings': m20261220p2,
 	'20261221090000_add_cutter_register_to_machines': m20261221a,
 	'20261221090100_create_edge_readings': m20261221b,
 	'20261221090200_create_part_measurements': m20261221c,

@@ -133,7 +133,27 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	// The e-mailed download link: an unknown token is 404 even for the owner.
 	'/shops/[shop]/settings/export/[token]': { allowed: ['owner'], okStatus: 404 },
 	'/shops/[shop]/settings/delete': { allowed: ['owner'], actions: ['delete', 'restore'] },
-	'/shops/[shop]/audit/export': { allowed: ['owner', 'admin'] }
+	'/shops/[shop]/audit/export': { allowed: ['owner', 'admin'] },
+	// Tool library (issue 20): every member reads it (like tools); changing it is lead and up.
+	'/shops/[shop]/tool-library': {
+		allowed: ALL,
+		actions: ['add'],
+		actionsAllowed: ['owner', 'admin', 'lead']
+	},
+	'/shops/[shop]/tool-library/import': {
+		allowed: ['owner', 'admin', 'lead'],
+		actions: ['mapping', 'preview', 'import']
+	},
+	'/shops/[shop]/tool-library/[assembly]': {
+		allowed: ALL,
+		actions: ['measure', 'preview', 'assign'],
+		actionsAllowed: ['owner', 'admin', 'lead']
+	},
+	'/api/v1/shops/[shop]/tool-library': { allowed: ALL },
+	'/api/v1/shops/[shop]/tool-library/[assembly]': { allowed: ALL },
+	'/api/v1/shops/[shop]/tool-library/[assembly]/assignments': { allowed: ALL },
+	'/api/v1/shops/[shop]/tool-library/import': { allowed: ALL },
+	'/api/v1/shops/[shop]/tool-library/mapping': { allowed: ALL }
 };
 
 /** Form actions of pages already listed above, with fewer roles than the page. */
@@ -164,7 +184,9 @@ const PARAMS: Record<string, string> = {
 	'[check]': '1',
 	'[kind]': 'tool',
 	'[register]': '2',
-	'[token]': 'not-a-real-token-0123456789abcdef0123456'
+	'[token]': 'not-a-real-token-0123456789abcdef0123456',
+	// The demo seed's first tool-library assembly (issue 20).
+	'[assembly]': '1'
 };
 function fill(id: string, shop: string): string {
 	let path = id.replace('[shop]', shop);

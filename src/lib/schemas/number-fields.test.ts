@@ -21,6 +21,7 @@ import * as readings from './readings';
 import * as setups from './setups';
 import * as shop from './shop';
 import * as tool from './tool';
+import * as toolLibrary from './tool-library';
 
 const MODULES = {
 	auth,
@@ -33,7 +34,8 @@ const MODULES = {
 	readings,
 	setups,
 	shop,
-	tool
+	tool,
+	toolLibrary
 };
 
 // eslint-disable-next-line @typescript-eslint/no-explicit-any

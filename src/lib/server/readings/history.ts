@@ -11,7 +11,7 @@ export interface RecordRow {
 	/** The offset version (null for a reading that set no offset, e.g. a reference check touch). */
 	offsetVersionId: number | null;
 	readingId: number | null;
-	readingKind: 'tool-touch' | 'part-top' | 'reference' | 'tool-remeasure' | null;
+	readingKind: 'tool-touch' | 'part-top' | 'reference' | 'tool-remeasure' | 'presetter' | null;
 	registerKind: 'tool' | 'work' | null;
 	register: string | null;
 	value: number | null;

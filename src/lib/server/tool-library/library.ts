@@ -1,0 +1,445 @@
+/**
+ * The shop's tool library (issue 20): assemblies, their append-only presetter measurements, the
+ * shop's CSV mapping and presetter imports. `trx` is always a shop transaction (withShop).
+ */
+import type { Knex } from 'knex';
+import type { AssemblyForm, MeasurementForm, PresetterMapping } from '$lib/schemas/tool-library';
+import type { Units } from '$lib/offsets';
+import { audit } from '../audit';
+import { isUniqueViolation } from '../db/errors';
+import { parsePresetterCsv, type PresetterRow } from './presetter-csv';
+import { wallTimeToDate } from './wall-time';
+
+export interface Actor {
+	id: number;
+	email: string;
+	ip?: string;
+}
+
+export interface Measurement {
+	id: number;
+	gaugeLength: number;
+	radius: number | null;
+	units: Units;
+	presetter: string;
+	measuredAt: string;
+	source: 'typed' | 'csv';
+	importId: number | null;
+	note: string;
+	recordedBy: string | null;
+	recordedAt: string;
+}
+
+export interface Assembly {
+	id: number;
+	name: string;
+	holder: string;
+	cutter: string;
+	stickOut: number | null;
+	units: Units;
+	createdAt: string;
+	/** The newest measurement (by measured time): the assembly's length now. */
+	latest: Measurement | null;
+	measurementCount: number;
+	/** The pockets it was last put in, one per machine ("Mill 1 T11"), while that tool is in the rack. */
+	places: string[];
+}
+
+export interface Assignment {
+	id: number;
+	machineId: number;
+	machineName: string;
+	t: number;
+	h: number;
+	measurementId: number;
+	readingId: number;
+	value: number | null;
+	units: Units;
+	by: string | null;
+	at: string;
+}
+
+const num = (v: unknown) => (v === null || v === undefined ? null : Number(v));
+const iso = (v: unknown) => new Date(v as string).toISOString();
+
+function toMeasurement(r: Record<string, unknown>): Measurement {
+	return {
+		id: Number(r.id),
+		gaugeLength: Number(r.gauge_length),
+		radius: num(r.radius),
+		units: r.units as Units,
+		presetter: String(r.presetter ?? ''),
+		measuredAt: iso(r.measured_at),
+		source: r.source as 'typed' | 'csv',
+		importId: num(r.import_id),
+		note: String(r.note ?? ''),
+		recordedBy: (r.recorded_by_name as string) ?? null,
+		recordedAt: iso(r.recorded_at)
+	};
+}
+
+/** Newest first: by when it was measured, then by when it was recorded. */
+const NEWEST = [
+	{ column: 'm.measured_at', order: 'desc' as const },
+	{ column: 'm.id', order: 'desc' as const }
+];
+
+/** Every assembly with its newest measurement, by name. */
+export async function listAssemblies(trx: Knex.Transaction): Promise<Assembly[]> {
+	const rows = await trx('tool_assemblies as a')
+		.select(
+			'a.*',
+			trx.raw('(select count(*) from assembly_measurements c where c.assembly_id = a.id) as n')
+		)
+		.orderByRaw('lower(a.name)');
+	const latest = await trx.select('m.*').from(
+		trx('assembly_measurements as m')
+			.distinctOn('m.assembly_id')
+			.select('m.*')
+			.orderBy([{ column: 'm.assembly_id' }, ...NEWEST])
+			.as('m')
+	);
+	const byAssembly = new Map(latest.map((m) => [Number(m.assembly_id), toMeasurement(m)]));
+	const placed = await trx('assembly_assignments as s')
+		.join('machines as mc', 'mc.id', 's.machine_id')
+		.join('tools as t', 't.id', 's.tool_id')
+		.whereNull('t.archived_at')
+		.whereNull('mc.archived_at')
+		.distinctOn('s.assembly_id', 's.machine_id')
+		.orderBy([
+			{ column: 's.assembly_id' },
+			{ column: 's.machine_id' },
+			{ column: 's.assigned_at', order: 'desc' }
+		])
+		.select('s.assembly_id', 'mc.name', 't.t_number');
+	const places = new Map<number, string[]>();
+	for (const p of placed) {
+		const list = places.get(Number(p.assembly_id)) ?? [];
+		list.push(`${p.name} T${p.t_number}`);
+		places.set(Number(p.assembly_id), list);
+	}
+	return rows.map((a) => ({
+		id: Number(a.id),
+		name: a.name,
+		holder: a.holder,
+		cutter: a.cutter,
+		stickOut: num(a.stick_out),
+		units: a.units,
+		createdAt: iso(a.created_at),
+		latest: byAssembly.get(Number(a.id)) ?? null,
+		measurementCount: Number(a.n),
+		places: places.get(Number(a.id)) ?? []
+	}));
+}
+
+export async function getAssembly(
+	trx: Knex.Transaction,
+	id: number
+): Promise<(Assembly & { measurements: Measurement[]; assignments: Assignment[] }) | undefined> {
+	if (!Number.isSafeInteger(id) || id <= 0) return undefined;
+	const a = await trx('tool_assemblies').where({ id }).first();
+	if (!a) return undefined;
+	const measurements = (
+		await trx('assembly_measurements as m')
+			.leftJoin('public.users as u', 'u.id', 'm.recorded_by')
+			.where('m.assembly_id', id)
+			.orderBy(NEWEST)
+			.select('m.*', 'u.name as recorded_by_name')
+	).map(toMeasurement);
+	const assignments = await trx('assembly_assignments as s')
+		.join('machines as mc', 'mc.id', 's.machine_id')
+		.join('tools as t', 't.id', 's.tool_id')
+		.leftJoin('offset_versions as o', 'o.reading_id', 's.reading_id')
+		.leftJoin('public.users as u', 'u.id', 's.assigned_by')
+		.where('s.assembly_id', id)
+		.orderBy([
+			{ column: 's.assigned_at', order: 'desc' },
+			{ column: 's.id', order: 'desc' }
+		])
+		.select(
+			's.id',
+			's.machine_id',
+			'mc.name as machine_name',
+			'mc.units',
+			't.t_number',
+			't.h_number',
+			's.measurement_id',
+			's.reading_id',
+			'o.value',
+			'u.name as by_name',
+			's.assigned_at'
+		);
+	return {
+		id: Number(a.id),
+		name: a.name,
+		holder: a.holder,
+		cutter: a.cutter,
+		stickOut: num(a.stick_out),
+		units: a.units,
+		createdAt: iso(a.created_at),
+		latest: measurements[0] ?? null,
+		measurementCount: measurements.length,
+		// Newest assignment per machine (the list is newest first).
+		places: [
+			...new Map<string, string>(
+				assignments
+					.map((s): [string, string] => [String(s.machine_id), `${s.machine_name} T${s.t_number}`])
+					.reverse()
+			).values()
+		],
+		measurements,
+		assignments: assignments.map((s) => ({
+			id: Number(s.id),
+			machineId: Number(s.machine_id),
+			machineName: s.machine_name,
+			t: Number(s.t_number),
+			h: Number(s.h_number),
+			measurementId: Number(s.measurement_id),
+			readingId: Number(s.reading_id),
+			value: num(s.value),
+			units: s.units,
+			by: s.by_name ?? null,
+			at: iso(s.assigned_at)
+		}))
+	};
+}
+
+export type LibraryResult<T = object> =
+	({ ok: true } & T) | { ok: false; field?: string; message: string };
+
+function measuredAtOf(text: string, timeZone: string, now: Date): LibraryResult<{ at: Date }> {
+	if (!text) return { ok: true, at: now };
+	const at = wallTimeToDate(text, timeZone);
+	if (!at)
+		return { ok: false, field: 'measuredAt', message: `Measured at "${text}" is not a real date.` };
+	if (at.getTime() > now.getTime() + 5 * 60_000)
+		return { ok: false, field: 'measuredAt', message: `Measured at "${text}" is in the future.` };
+	return { ok: true, at };
+}
+
+const measurementRow = (
+	assemblyId: number,
+	m: Pick<MeasurementForm, 'gaugeLength' | 'radius' | 'units' | 'presetter' | 'note'>,
+	at: Date,
+	by: Actor,
+	source: 'typed' | 'csv',
+	importId: number | null = null
+) => ({
+	assembly_id: assemblyId,
+	gauge_length: m.gaugeLength,
+	radius: m.radius ?? null,
+	units: m.units,
+	presetter: m.presetter,
+	measured_at: at,
+	source,
+	import_id: importId,
+	note: m.note,
+	recorded_by: by.id
+});
+
+/** A new assembly with its first measurement. */
+export async function addAssembly(
+	trx: Knex.Transaction,
+	form: AssemblyForm,
+	by: Actor,
+	timeZone: string,
+	now = new Date()
+): Promise<LibraryResult<{ id: number }>> {
+	const when = measuredAtOf(form.measuredAt, timeZone, now);
+	if (!when.ok) return when;
+	let id: number;
+	try {
+		const [a] = await trx.transaction((sp) =>
+			sp('tool_assemblies')
+				.insert({
+					name: form.name,
+					holder: form.holder,
+					cutter: form.cutter,
+					stick_out: form.stickOut ?? null,
+					units: form.units,
+					created_by: by.id
+				})
+				.returning('id')
+		);
+		id = Number(a.id);
+	} catch (e) {
+		if (!isUniqueViolation(e, 'tool_assemblies_name_key')) throw e;
+		return {
+			ok: false,
+			field: 'name',
+			message: `An assembly named "${form.name}" is already in the library: open it and add a re-measure.`
+		};
+	}
+	await trx('assembly_measurements').insert(measurementRow(id, form, when.at, by, 'typed'));
+	await audit(trx, {
+		actorUserId: by.id,
+		actorEmail: by.email,
+		ip: by.ip,
+		action: 'assembly.added',
+		target: form.name,
+		detail: { gaugeLength: form.gaugeLength, radius: form.radius ?? null, units: form.units }
+	});
+	return { ok: true, id };
+}
+
+/** A re-measure: a new row; the earlier ones stay as they were. */
+export async function addMeasurement(
+	trx: Knex.Transaction,
+	assemblyId: number,
+	form: MeasurementForm,
+	by: Actor,
+	timeZone: string,
+	now = new Date()
+): Promise<LibraryResult<{ id: number }>> {
+	const a = await trx('tool_assemblies').where({ id: assemblyId }).first('name');
+	if (!a) return { ok: false, message: 'That assembly is not in this shop’s library.' };
+	const when = measuredAtOf(form.measuredAt, timeZone, now);
+	if (!when.ok) return when;
+	const [m] = await trx('assembly_measurements')
+		.insert(measurementRow(assemblyId, form, when.at, by, 'typed'))
+		.returning('id');
+	await audit(trx, {
+		actorUserId: by.id,
+		actorEmail: by.email,
+		ip: by.ip,
+		action: 'assembly.measured',
+		target: a.name,
+		detail: { gaugeLength: form.gaugeLength, radius: form.radius ?? null, units: form.units }
+	});
+	return { ok: true, id: Number(m.id) };
+}
+
+/** The shop's presetter CSV mapping (the newest saved), or null before the first one. */
+export async function currentMapping(trx: Knex.Transaction): Promise<PresetterMapping | null> {
+	const r = await trx('presetter_mappings').orderBy('id', 'desc').first();
+	if (!r) return null;
+	return {
+		...(r.columns as Omit<PresetterMapping, 'units' | 'decimalSeparator' | 'delimiter'>),
+		units: r.units,
+		decimalSeparator: r.decimal_separator,
+		delimiter: r.delimiter
+	};
+}
+
+/** Saves the mapping as a new row (earlier ones stay, for the record of past imports). */
+export async function saveMapping(
+	trx: Knex.Transaction,
+	m: PresetterMapping,
+	by: Actor
+): Promise<void> {
+	const { units, decimalSeparator, delimiter, ...columns } = m;
+	await trx('presetter_mappings').insert({
+		columns: JSON.stringify(columns),
+		units,
+		decimal_separator: decimalSeparator,
+		delimiter,
+		created_by: by.id
+	});
+	await audit(trx, {
+		actorUserId: by.id,
+		actorEmail: by.email,
+		ip: by.ip,
+		action: 'presetter.mapping-saved',
+		target: 'presetter CSV',
+		detail: { ...columns, units, decimalSeparator, delimiter }
+	});
+}
+
+export const NO_MAPPING =
+	'Map the presetter’s columns first (Tool library → Import from a presetter): which column holds the assembly name, the gauge length and so on, and the file’s units and decimal separator.';
+
+export type ImportResult =
+	| { ok: true; preview: true; rows: PresetterRow[]; mapping: PresetterMapping }
+	| { ok: true; preview: false; imported: number; created: number; importId: number }
+	| { ok: false; message: string; rows?: PresetterRow[]; mapping?: PresetterMapping };
+
+/**
+ * Checks every row of a presetter CSV with the stored mapping; with `preview` answers the rows,
+ * otherwise imports — all rows or none: one row with an error and nothing is written.
+ */
+export async function importPresetterCsv(
+	trx: Knex.Transaction,
+	text: string,
+	opts: { fileName: string; preview: boolean; timeZone: string; now?: Date },
+	by: Actor
+): Promise<ImportResult> {
+	const mapping = await currentMapping(trx);
+	if (!mapping) return { ok: false, message: NO_MAPPING };
+	const names = await trx('tool_assemblies').select('id', 'name');
+	const existing = new Map(names.map((r) => [String(r.name).toLowerCase(), Number(r.id)]));
+	const parsed = parsePresetterCsv(text, mapping, existing, {
+		timeZone: opts.timeZone,
+		now: opts.now
+	});
+	if (!parsed.ok) return { ok: false, message: parsed.message };
+	if (opts.preview) return { ok: true, preview: true, rows: parsed.rows, mapping };
+	const bad = parsed.rows.filter((r) => r.errors.length > 0);
+	if (bad.length > 0)
+		return {
+			ok: false,
+			message: `${bad.length} of ${parsed.rows.length} row(s) have errors, so nothing was imported. Correct the file and import it again.`,
+			rows: parsed.rows,
+			mapping
+		};
+	let importId = 0;
+	let created = 0;
+	try {
+		// A savepoint: a parallel import or form that added one of these names first (the
+		// unique index decides) leaves this import with nothing written, and it says so.
+		await trx.transaction(async (sp) => {
+			const [imp] = await sp('presetter_imports')
+				.insert({
+					file_name: opts.fileName,
+					row_count: parsed.rows.length,
+					settings: JSON.stringify(mapping),
+					imported_by: by.id
+				})
+				.returning('id');
+			importId = Number(imp.id);
+			for (const r of parsed.rows) {
+				const m = r.measurement!;
+				let assemblyId = r.assemblyId;
+				if (assemblyId === null) {
+					const [a] = await sp('tool_assemblies')
+						.insert({
+							name: m.name,
+							holder: m.holder,
+							cutter: m.cutter,
+							stick_out: m.stickOut,
+							units: mapping.units,
+							created_by: by.id
+						})
+						.returning('id');
+					assemblyId = Number(a.id);
+					created++;
+				}
+				await sp('assembly_measurements').insert(
+					measurementRow(
+						assemblyId,
+						{ ...m, units: mapping.units, note: '', radius: m.radius ?? undefined },
+						new Date(m.measuredAt),
+						by,
+						'csv',
+						importId
+					)
+				);
+			}
+		});
+	} catch (e) {
+		if (!isUniqueViolation(e, 'tool_assemblies_name_key')) throw e;
+		return {
+			ok: false,
+			message:
+				'Another import or person added an assembly of the same name at the same moment, so nothing from this file was imported. Look at the library, then import the file again.'
+		};
+	}
+	await audit(trx, {
+		actorUserId: by.id,
+		actorEmail: by.email,
+		ip: by.ip,
+		action: 'presetter.imported',
+		target: opts.fileName || 'presetter CSV',
+		detail: { importId, rows: parsed.rows.length, newAssemblies: created }
+	});
+	return { ok: true, preview: false, imported: parsed.rows.length, created, importId };
+}
