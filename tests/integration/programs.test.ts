@@ -16,7 +16,8 @@ import { summarize } from '$lib/server/programs/summary';
 import { getVersionFile, listPrograms, readLines, uploadProgram } from '$lib/server/programs/store';
 import { createShopWithOwner } from '$lib/server/shops/create';
 import { getSetupDetail } from '$lib/server/setups/queries';
-import { createSetup, type Actor } from '$lib/server/setups/write';
+import type { Actor } from '$lib/server/actor';
+import { createSetup } from '$lib/server/setups/write';
 import { testDb, uniqueSuffix } from './db';
 import { insertTwoFixtureMill } from './two-fixture-mill';
 

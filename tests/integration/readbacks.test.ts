@@ -8,14 +8,14 @@ import { getMachine, type MachineRecord } from '$lib/server/offsets/machine-stat
 import { readbackFindings } from '$lib/server/readbacks/findings';
 import { recordReadback } from '$lib/server/readbacks/record';
 import { machineVerification } from '$lib/server/readbacks/status';
-import { ReadingInputError } from '$lib/server/readings/record';
+import { ReadingInputError } from '$lib/server/readings/input';
 import { provisionShop } from '$lib/server/shops/provision';
 import { addFixture } from '$lib/server/tools/service';
 import { testDb, uniqueSuffix } from './db';
 import { insertTwoFixtureMill } from './two-fixture-mill';
 
 /**
- * Read-backs against the real PostgreSQL (issue 16): records are append-only at the database,
+ * Read-backs against the real PostgreSQL: records are append-only at the database,
  * a register's verification follows its offset versions, and mismatches become findings at once.
  * Each run provisions its own shop so the demo data is never touched.
  */

@@ -3,12 +3,9 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { toolReadingSchema, partTopReadingSchema } from '$lib/schemas/readings';
 import { withShop, type ShopRef } from '$lib/server/db/tenant';
 import { getMachine, machineState, type MachineRecord } from '$lib/server/offsets/machine-state';
-import {
-	previewToolReading,
-	ReadingInputError,
-	recordPartTopReading,
-	recordToolReading
-} from '$lib/server/readings/record';
+import { ReadingInputError } from '$lib/server/readings/input';
+import { previewToolReading } from '$lib/server/readings/preview';
+import { recordPartTopReading, recordToolReading } from '$lib/server/readings/record';
 import { recordReference } from '$lib/server/readings/reference';
 import { registerHistory } from '$lib/server/readings/history';
 import { provisionShop } from '$lib/server/shops/provision';

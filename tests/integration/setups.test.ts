@@ -15,9 +15,9 @@ import {
 	changeSetupStatus,
 	copySetup,
 	createSetup,
-	updateSetup,
-	type Actor
+	updateSetup
 } from '$lib/server/setups/write';
+import type { Actor } from '$lib/server/actor';
 import { engineMachine, getMachine } from '$lib/server/offsets/machine-state';
 import { testDb, uniqueSuffix } from './db';
 import { insertTwoFixtureMill } from './two-fixture-mill';

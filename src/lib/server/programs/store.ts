@@ -8,7 +8,7 @@ import type { ProgramCheckResult } from '$lib/offsets';
 import { audit } from '../audit';
 import { storagePath } from '../setups/photos';
 import type { SetupDetail } from '../setups/queries';
-import type { Actor } from '../setups/write';
+import type { Actor } from '../actor';
 import { checksInBackground, checkProgramFile, countLines, programNameFrom } from './file';
 import { programSetupFor, type CheckInput } from './input';
 import { checkWhole, doneFields } from './run';

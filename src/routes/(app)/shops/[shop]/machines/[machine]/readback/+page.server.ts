@@ -9,11 +9,11 @@ import { listReadbacks } from '$lib/server/readbacks/queries';
 import { recordReadback, setupRegistersOf } from '$lib/server/readbacks/record';
 import { machineVerification } from '$lib/server/readbacks/status';
 import { actorOf } from '$lib/server/readings/form';
-import { ReadingInputError } from '$lib/server/readings/record';
+import { ReadingInputError } from '$lib/server/readings/input';
 import type { Actions, PageServerLoad, RequestEvent } from './$types';
 
 /**
- * Read back at the control (issue 16): type what the control shows in a grid laid out like its
+ * Read back at the control: type what the control shows in a grid laid out like its
  * registers, or upload its saved offset file; the comparison comes back per register. With
  * `?setup=<id>` the grid holds that setup's registers only.
  */
