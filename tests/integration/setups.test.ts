@@ -11,12 +11,7 @@ import { setupLoadProgram } from '$lib/server/setups/load';
 import { addSetupPhoto, PHOTO_MAX_BYTES } from '$lib/server/setups/photos';
 import { getSetupDetail, listSetups } from '$lib/server/setups/queries';
 import { recordSignoff } from '$lib/server/setups/signoff';
-import {
-	changeSetupStatus,
-	copySetup,
-	createSetup,
-	updateSetup
-} from '$lib/server/setups/write';
+import { changeSetupStatus, copySetup, createSetup, updateSetup } from '$lib/server/setups/write';
 import type { Actor } from '$lib/server/actor';
 import { engineMachine, getMachine } from '$lib/server/offsets/machine-state';
 import { testDb, uniqueSuffix } from './db';
