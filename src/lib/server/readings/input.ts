@@ -109,13 +109,20 @@ function blockFrom(
 	return h;
 }
 
+/** The fields of a touch, as typed. */
+export interface TouchForm {
+	machineZ: string;
+	touchedThrough: TouchThrough;
+	blockHeight: string;
+}
+
 /**
  * The touch both reading forms have: the machine Z the control showed (required) and the block
  * or setter under the tip. `machineZ` is undefined only when an issue says why.
  */
 export function readTouch(
 	machine: MachineRecord,
-	form: { machineZ: string; touchedThrough: TouchThrough; blockHeight: string },
+	form: TouchForm,
 	issues: ReadingIssue[]
 ): { machineZ: number | undefined; block: number } {
 	const machineZ = parseLength(machine, 'machineZ', 'Machine Z', form.machineZ, issues, {
@@ -135,12 +142,21 @@ export function requireChangeReason(
 		issues.push({ field: 'reason', message: `Say what changed (${examples}).` });
 }
 
-/** Engine refusals → form fields. */
-export function engineIssues(
-	e: unknown,
+/** The engine's answer, or its refusals on the form's fields (`map`: engine field → form field). */
+export function fromEngine<T>(
+	compute: () => T,
 	map: Record<string, string>,
 	machine: MachineRecord
-): never {
+): T {
+	try {
+		return compute();
+	} catch (e) {
+		engineIssues(e, map, machine);
+	}
+}
+
+/** Engine refusals → form fields. */
+function engineIssues(e: unknown, map: Record<string, string>, machine: MachineRecord): never {
 	if (!isOffsetInputError(e)) throw e;
 	throw new ReadingInputError(
 		e.issues.map((i) => {

@@ -26,13 +26,14 @@ import {
 } from '../offsets/machine-state';
 import { registerFindings, touchSlipFindings, withTouchFindings } from './findings';
 import {
-	engineIssues,
 	fmtOf,
+	fromEngine,
 	ReadingInputError,
 	readTouch,
 	requireChangeReason,
 	requireReference,
-	type ReadingIssue
+	type ReadingIssue,
+	type TouchForm
 } from './input';
 import {
 	checkCorrection,
@@ -130,6 +131,36 @@ async function assemble(
 	};
 }
 
+/**
+ * The steps every touch-off reads its form with: the touch, its own checks (`extra`), the reason
+ * a recorded change needs, the correction rules, then the machine's reference. Every issue is
+ * collected first and refused together (ReadingInputError): nothing is written.
+ */
+async function readReading<X extends object>(
+	trx: Knex.Transaction,
+	machine: MachineRecord,
+	form: TouchForm & { reason: string; correctsReadingId: string },
+	same: { toolId: number } | { fixtureId: number },
+	change: { changed: boolean; examples: string },
+	extra: (issues: ReadingIssue[]) => Promise<X>
+): Promise<TouchParsed & X> {
+	const issues: ReadingIssue[] = [];
+	const { machineZ, block } = readTouch(machine, form, issues);
+	const own = await extra(issues);
+	requireChangeReason(change.changed, form.reason, change.examples, issues);
+	const corrects = await checkCorrection(
+		trx,
+		machine.id,
+		form.correctsReadingId,
+		form.reason,
+		same,
+		issues
+	);
+	if (issues.length) throw new ReadingInputError(issues);
+	const reference = requireReference(machine, await listReferences(trx, machine.id));
+	return { ...own, machineZ: machineZ!, block, corrects, reference };
+}
+
 /** Tool touch-off or re-measure: the offset the reading gives, and the engine's findings for it. */
 export async function previewToolReading(
 	trx: Knex.Transaction,
@@ -141,53 +172,46 @@ export async function previewToolReading(
 	const tool = await findTool(trx, machine.id, toolId);
 	if (!tool)
 		throw ReadingInputError.of('tool', `Tool #${toolId} is not a tool of ${machine.name}.`);
-	const issues: ReadingIssue[] = [];
-	const { machineZ, block } = readTouch(machine, form, issues);
-	requireChangeReason(
-		form.toolChanged,
-		form.reason,
-		'e.g. broken end mill replaced, new insert, new holder',
-		issues
-	);
-	const corrects = await checkCorrection(
+	const { machineZ, block, corrects, reference } = await readReading(
 		trx,
-		machine.id,
-		form.correctsReadingId,
-		form.reason,
+		machine,
+		form,
 		{ toolId: tool.id },
-		issues
+		{
+			changed: form.toolChanged,
+			examples: 'e.g. broken end mill replaced, new insert, new holder'
+		},
+		async () => ({})
 	);
-	if (issues.length) throw new ReadingInputError(issues);
-	const reference = requireReference(machine, await listReferences(trx, machine.id));
-
-	let value: number;
-	try {
-		value = toolOffsetFromTouch({
-			convention: machine.convention,
-			units: machine.units,
-			touchZ: machineZ!,
-			setterHeight: block,
-			referenceGaugeLineZ: reference.gaugeLineZ ?? undefined,
-			masterTouchZ:
-				machine.masterToolH === tool.h
-					? tipZ(machineZ!, block)
-					: ((await masterTouchZOf(trx, machine)) ?? undefined),
-			resolution: machine.resolution,
-			machine: engineMachine(machine)
-		});
-	} catch (e) {
-		engineIssues(e, { touchZ: 'machineZ', setterHeight: 'blockHeight' }, machine);
-	}
+	const masterTouchZ =
+		machine.masterToolH === tool.h
+			? tipZ(machineZ, block)
+			: ((await masterTouchZOf(trx, machine)) ?? undefined);
+	const value = fromEngine(
+		() =>
+			toolOffsetFromTouch({
+				convention: machine.convention,
+				units: machine.units,
+				touchZ: machineZ,
+				setterHeight: block,
+				referenceGaugeLineZ: reference.gaugeLineZ ?? undefined,
+				masterTouchZ,
+				resolution: machine.resolution,
+				machine: engineMachine(machine)
+			}),
+		{ touchZ: 'machineZ', setterHeight: 'blockHeight' },
+		machine
+	);
 	const register = String(tool.h);
 	const fmt = fmtOf(machine);
-	const sum = `H${register} = machine Z ${fmt(machineZ!)} − block ${fmt(block)}`;
+	const sum = `H${register} = machine Z ${fmt(machineZ)} − block ${fmt(block)}`;
 	const working =
 		machine.convention === 'reference-touch'
 			? `${sum} = ${fmt(value)}`
 			: machine.convention === 'gauge-length'
 				? `${sum} − gauge-line Z ${fmt(reference.gaugeLineZ ?? 0)} = ${fmt(value)}`
 				: `${sum} − master tool on the reference = ${fmt(value)}`;
-	const parsed = { tool, machineZ: machineZ!, block, corrects, reference };
+	const parsed = { tool, machineZ, block, corrects, reference };
 	return {
 		parsed,
 		preview: await assemble(trx, machine, now, {
@@ -248,46 +272,30 @@ export async function previewPartTopReading(
 			'fixture',
 			`Fixture #${fixtureId} is not a fixture of ${machine.name}.`
 		);
-	const issues: ReadingIssue[] = [];
-	const { machineZ, block } = readTouch(machine, form, issues);
-	const { tool, toolOffset } = await touchingTool(trx, machine, form.withToolId, issues);
-	requireChangeReason(
-		form.fixtureChanged,
-		form.reason,
-		'e.g. new part in the vise, fixture re-seated',
-		issues
-	);
-	const corrects = await checkCorrection(
+	const { machineZ, block, corrects, reference, tool, toolOffset } = await readReading(
 		trx,
-		machine.id,
-		form.correctsReadingId,
-		form.reason,
+		machine,
+		form,
 		{ fixtureId: fixture.id },
-		issues
+		{ changed: form.fixtureChanged, examples: 'e.g. new part in the vise, fixture re-seated' },
+		(issues) => touchingTool(trx, machine, form.withToolId, issues)
 	);
-	if (issues.length) throw new ReadingInputError(issues);
-	const reference = requireReference(machine, await listReferences(trx, machine.id));
-
-	let value: number;
-	try {
-		value = workOffsetZFromPartTouch({
-			units: machine.units,
-			partTopZ: machineZ!,
-			toolOffset: toolOffset!,
-			setterHeight: block,
-			resolution: machine.resolution,
-			machine: engineMachine(machine)
-		});
-	} catch (e) {
-		engineIssues(
-			e,
-			{ partTopZ: 'machineZ', setterHeight: 'blockHeight', toolOffset: 'withToolId' },
-			machine
-		);
-	}
+	const value = fromEngine(
+		() =>
+			workOffsetZFromPartTouch({
+				units: machine.units,
+				partTopZ: machineZ,
+				toolOffset: toolOffset!,
+				setterHeight: block,
+				resolution: machine.resolution,
+				machine: engineMachine(machine)
+			}),
+		{ partTopZ: 'machineZ', setterHeight: 'blockHeight', toolOffset: 'withToolId' },
+		machine
+	);
 	const register = fixture.register;
 	const fmt = fmtOf(machine);
-	const parsed = { fixture, tool: tool!, machineZ: machineZ!, block, corrects, reference };
+	const parsed = { fixture, tool: tool!, machineZ, block, corrects, reference };
 	return {
 		parsed,
 		preview: await assemble(trx, machine, now, {
@@ -299,7 +307,7 @@ export async function previewPartTopReading(
 			value,
 			changed: form.fixtureChanged,
 			same: { fixtureId: fixture.id },
-			working: `${register} Z = machine Z ${fmt(machineZ!)} − block ${fmt(block)} − H${tool!.h} ${fmt(toolOffset!)} = ${fmt(value)}`,
+			working: `${register} Z = machine Z ${fmt(machineZ)} − block ${fmt(block)} − H${tool!.h} ${fmt(toolOffset!)} = ${fmt(value)}`,
 			touchingToolH: tool!.h
 		})
 	};
