@@ -1,5 +1,5 @@
 import { untrack } from 'svelte';
-import { fromStore } from 'svelte/store';
+import { get } from 'svelte/store';
 import { superForm, type SuperValidated } from 'sveltekit-superforms';
 import { previewKey } from '$lib/schemas/readings';
 
@@ -19,8 +19,15 @@ export function previewedForm<
 	result: () => { preview?: P; previewKey?: string } | null | undefined
 ) {
 	const sf = superForm<T, M, In>(untrack(form), { resetForm: false, invalidateAll: false });
-	const values = fromStore(sf.form);
-	const current = $derived(previewKey(values.current));
+	// A copy on every change: `bind:` writes into the store's own object, so the object itself
+	// stays the same and only a new copy tells the key below that something changed.
+	let values = $state.raw<Record<string, unknown>>({ ...get(sf.form) });
+	$effect.pre(() =>
+		sf.form.subscribe((v) => {
+			values = { ...v };
+		})
+	);
+	const current = $derived(previewKey(values));
 	const answer = $derived(result());
 	const preview = $derived(
 		answer?.preview && answer.previewKey === current ? answer.preview : null
