@@ -5,7 +5,7 @@ import type { Knex } from 'knex';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { withShop } from '$lib/server/db/tenant';
 import { readMachinePhoto, setMachinePhoto } from '$lib/server/machines/photo';
-import type { Actor } from '$lib/server/machines/service';
+import type { Actor } from '$lib/server/actor';
 import { createShopWithOwner } from '$lib/server/shops/create';
 import { testDb, uniqueSuffix } from './db';
 import { setEnv } from './env';

@@ -5,7 +5,7 @@ import { queuedReadingSchema, type QueuedReading } from '$lib/schemas/queued-rea
 import { withShop, type ShopRef } from '$lib/server/db/tenant';
 import { getMachine, type MachineRecord } from '$lib/server/offsets/machine-state';
 import { recordQueuedReading } from '$lib/server/readings/queued';
-import { ReadingInputError } from '$lib/server/readings/record';
+import { ReadingInputError } from '$lib/server/readings/input';
 import { provisionShop } from '$lib/server/shops/provision';
 import { testDb, uniqueSuffix } from './db';
 

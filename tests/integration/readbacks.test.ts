@@ -8,7 +8,7 @@ import { getMachine, type MachineRecord } from '$lib/server/offsets/machine-stat
 import { readbackFindings } from '$lib/server/readbacks/findings';
 import { recordReadback } from '$lib/server/readbacks/record';
 import { machineVerification } from '$lib/server/readbacks/status';
-import { ReadingInputError } from '$lib/server/readings/record';
+import { ReadingInputError } from '$lib/server/readings/input';
 import { provisionShop } from '$lib/server/shops/provision';
 import { addFixture } from '$lib/server/tools/service';
 import { testDb, uniqueSuffix } from './db';

@@ -3,12 +3,10 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { toolReadingSchema, partTopReadingSchema } from '$lib/schemas/readings';
 import { withShop, type ShopRef } from '$lib/server/db/tenant';
 import { getMachine, machineState, type MachineRecord } from '$lib/server/offsets/machine-state';
-import {
-	previewToolReading,
-	ReadingInputError,
-	recordPartTopReading,
-	recordToolReading
-} from '$lib/server/readings/record';
+import { ReadingInputError } from '$lib/server/readings/input';
+import { correctingReading, lastPartTopToolId } from '$lib/server/readings/correcting';
+import { previewPartTopReading, previewToolReading } from '$lib/server/readings/preview';
+import { recordPartTopReading, recordToolReading } from '$lib/server/readings/record';
 import { recordReference } from '$lib/server/readings/reference';
 import { registerHistory } from '$lib/server/readings/history';
 import { provisionShop } from '$lib/server/shops/provision';
@@ -384,5 +382,124 @@ describe('reading flows (real PostgreSQL)', () => {
 		);
 		expect(again.preview.referenceVersion).toBe(2);
 		expect(await staleKinds()).toEqual([]);
+	});
+});
+
+const refusal = async (p: Promise<unknown>) => {
+	try {
+		await p;
+	} catch (e) {
+		expect(e).toBeInstanceOf(ReadingInputError);
+		return (e as ReadingInputError).issues;
+	}
+	throw new Error('expected a refusal');
+};
+
+// What the reading pages load besides the form, and the refusals both previews share.
+describe('reading pages (real PostgreSQL)', () => {
+	it('loads the corrected reading only for its own tool or fixture', async () => {
+		const tool = await inShop((trx, m) =>
+			recordToolReading(trx, m, toolId, toolReadingSchema.parse({ machineZ: '-14.7012' }), actor)
+		);
+		await inShop((trx, m) =>
+			recordToolReading(trx, m, tool2Id, toolReadingSchema.parse({ machineZ: '-12.5' }), actor)
+		);
+		expect(await inShop((trx) => lastPartTopToolId(trx, machineId, fixtureId))).toBeNull();
+		const part = await inShop((trx, m) =>
+			recordPartTopReading(
+				trx,
+				m,
+				fixtureId,
+				partTopReadingSchema.parse({
+					machineZ: '-12.2501',
+					withToolId: String(tool2Id),
+					touchedThrough: '1-2-3 block',
+					blockHeight: '1'
+				}),
+				actor
+			)
+		);
+		// W = reading − block − H: -12.2501 − 1 − (−12.5) (NISTIR 6556 composition, DESIGN.md §2)
+		expect(part.preview.value).toBe(-0.7501);
+
+		const ofTool = await inShop((trx) =>
+			correctingReading(trx, machineId, { toolId }, String(tool.readingId))
+		);
+		expect(ofTool).toMatchObject({
+			id: tool.readingId,
+			machineZ: -14.7012,
+			blockHeight: 0,
+			by: 'Rita Reader',
+			toolId
+		});
+		// Another tool's reading, a part top asked for as a tool, junk: nothing to correct.
+		for (const [of, raw] of [
+			[{ toolId: tool2Id }, String(tool.readingId)],
+			[{ toolId: tool2Id }, String(part.readingId)],
+			[{ toolId }, '12abc'],
+			[{ toolId }, null]
+		] as const) {
+			expect(await inShop((trx) => correctingReading(trx, machineId, of, raw))).toBeNull();
+		}
+		const ofFixture = await inShop((trx) =>
+			correctingReading(trx, machineId, { fixtureId }, String(part.readingId))
+		);
+		expect(ofFixture).toMatchObject({ id: part.readingId, blockHeight: 1, toolId: tool2Id });
+		expect(
+			await inShop((trx) =>
+				correctingReading(trx, machineId, { fixtureId }, String(tool.readingId))
+			)
+		).toBeNull();
+		expect(await inShop((trx) => lastPartTopToolId(trx, machineId, fixtureId))).toBe(tool2Id);
+	});
+
+	it('a part top refuses every issue at once: the touch, the tool, the change reason', async () => {
+		const issues = await refusal(
+			inShop((trx, m) =>
+				previewPartTopReading(
+					trx,
+					m,
+					fixtureId,
+					partTopReadingSchema.parse({
+						machineZ: '',
+						touchedThrough: 'gauge block',
+						fixtureChanged: true
+					})
+				)
+			)
+		);
+		expect(issues).toEqual([
+			{ field: 'machineZ', message: 'Machine Z is required.' },
+			{
+				field: 'blockHeight',
+				message:
+					'Give the height of the gauge block the tip touched (it is subtracted from the reading).'
+			},
+			{ field: 'withToolId', message: 'Choose the tool that touched the part top.' },
+			{
+				field: 'reason',
+				message: 'Say what changed (e.g. new part in the vise, fixture re-seated).'
+			}
+		]);
+	});
+
+	it('a tool change needs its reason, in the words it always had', async () => {
+		const issues = await refusal(
+			inShop((trx, m) =>
+				recordToolReading(
+					trx,
+					m,
+					toolId,
+					toolReadingSchema.parse({ machineZ: '-14.8', toolChanged: true }),
+					actor
+				)
+			)
+		);
+		expect(issues).toEqual([
+			{
+				field: 'reason',
+				message: 'Say what changed (e.g. broken end mill replaced, new insert, new holder).'
+			}
+		]);
 	});
 });

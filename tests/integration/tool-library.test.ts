@@ -9,7 +9,7 @@ import {
 } from '$lib/schemas/tool-library';
 import { withShop, type ShopRef } from '$lib/server/db/tenant';
 import { getMachine, type MachineRecord } from '$lib/server/offsets/machine-state';
-import { ReadingInputError } from '$lib/server/readings/record';
+import { ReadingInputError } from '$lib/server/readings/input';
 import { provisionShop } from '$lib/server/shops/provision';
 import { assignAssembly, previewAssignment } from '$lib/server/tool-library/assign';
 import {

@@ -61,6 +61,12 @@ export {
 	reestablishReference,
 	type ReestablishResult
 } from './readings';
+export {
+	offsetDelta,
+	tipZ,
+	zeroHeightFromWorkOffset,
+	type ZeroHeightGeometry
+} from './differences';
 export { DEFAULT_POLICY, resolvePolicy, type Policy } from './policy';
 export {
 	TABLE_FINDING_KINDS,

@@ -3,7 +3,7 @@ import { z } from 'zod';
 /**
  * Reading forms (touch off a tool, touch off a part top, re-establish the reference). Numbers
  * arrive as the operator typed them and stay text here: the server turns them into lengths
- * with the machine's units and increment in hand (src/lib/server/readings/record.ts), so every
+ * with the machine's units and increment in hand (src/lib/server/readings/input.ts), so every
  * message can name the field, the machine and the rule.
  */
 

@@ -17,13 +17,9 @@ import {
 import type { EdgeReadingForm } from '$lib/schemas/components';
 import { shopPolicy } from '../shops/settings';
 import type { MachineRecord } from '../offsets/machine-state';
-import {
-	parseLength,
-	ReadingInputError,
-	type Actor,
-	type BriefFinding,
-	type ReadingIssue
-} from '../readings/record';
+import { parseLength, ReadingInputError, type ReadingIssue } from '../readings/input';
+import type { Actor } from '$lib/server/actor';
+import type { BriefFinding } from '$lib/reading-preview';
 import { gateComponent, writeComponentVersion } from './store';
 
 /** What the page shows before (and after) saving. */

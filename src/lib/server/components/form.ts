@@ -1,6 +1,6 @@
 import { fail } from '@sveltejs/kit';
 import type { z } from 'zod';
-import { ReadingInputError, type ReadingIssue } from '../readings/record';
+import { ReadingInputError, type ReadingIssue } from '../readings/input';
 
 /**
  * Reads a posted form through its zod schema (the schema is the one check, shared with the

@@ -9,14 +9,10 @@ import type { Knex } from 'knex';
 import { findingTitle, formatWithUnits, type CutterRegisterMode } from '$lib/offsets';
 import { audit } from '../audit';
 import type { MachineRecord } from '../offsets/machine-state';
-import {
-	ReadingInputError,
-	requireOverride,
-	type Actor,
-	type BriefFinding,
-	type OverrideChoice,
-	type ReadingPreview
-} from '../readings/record';
+import { ReadingInputError } from '../readings/input';
+import { requireOverride, type OverrideChoice } from '../readings/override';
+import type { Actor } from '$lib/server/actor';
+import type { BriefFinding, ReadingPreview } from '$lib/reading-preview';
 
 export type ComponentKind = 'x' | 'y' | 'radius' | 'length-wear' | 'radius-wear';
 

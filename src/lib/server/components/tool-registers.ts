@@ -16,13 +16,9 @@ import {
 } from '$lib/offsets';
 import type { PartMeasurementForm, ToolRegisterForm } from '$lib/schemas/components';
 import type { MachineRecord } from '../offsets/machine-state';
-import {
-	parseLength,
-	ReadingInputError,
-	type Actor,
-	type BriefFinding,
-	type ReadingIssue
-} from '../readings/record';
+import { parseLength, ReadingInputError, type ReadingIssue } from '../readings/input';
+import type { Actor } from '$lib/server/actor';
+import type { BriefFinding } from '$lib/reading-preview';
 import {
 	componentLabel,
 	currentComponent,

@@ -14,7 +14,7 @@ import {
 	tableFrom,
 	type MachineRecord
 } from '../offsets/machine-state';
-import type { Actor } from './service';
+import type { Actor } from '../actor';
 
 export interface PairCheck {
 	register: string;

@@ -5,7 +5,7 @@ import type { Knex } from 'knex';
 import { audit } from '../audit';
 import { afterTransaction } from '../db/after-transaction';
 import { checkPhoto, PHOTO_TYPES, storagePath } from '../setups/photos';
-import type { Actor } from './service';
+import type { Actor } from '../actor';
 
 /**
  * Sets (or replaces) a machine's photo, with the same type and size checks as setup photos. The

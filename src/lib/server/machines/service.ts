@@ -1,6 +1,7 @@
 import type { Knex } from 'knex';
 import type { z } from 'zod';
 import type { machineFormSchema, newMachineSchema } from '$lib/schemas/machine';
+import type { Actor } from '../actor';
 import { audit } from '../audit';
 import { assertCanAddMachine } from '../billing/gate';
 import type { ShopRef } from '../db/tenant';
@@ -11,11 +12,6 @@ type ExtendedOptional<T> = Omit<T, 'extendedWorkOffsets' | 'extendedAddress'> &
 	Partial<Pick<z.infer<typeof machineFormSchema>, 'extendedWorkOffsets' | 'extendedAddress'>>;
 type NewMachine = ExtendedOptional<z.infer<typeof newMachineSchema>>;
 type MachineEdit = ExtendedOptional<z.infer<typeof machineFormSchema>>;
-export interface Actor {
-	id: number;
-	email: string;
-}
-
 export type ServiceResult<T = object> =
 	({ ok: true } & T) | { ok: false; field?: string; message: string };
 

@@ -1,5 +1,6 @@
 import type { Knex } from 'knex';
 import { roleWithArticle, type Role } from '$lib/permissions';
+import type { NamedActor } from '../actor';
 import { audit } from '../audit';
 import { hashToken, newToken } from '../auth/tokens';
 import { config } from '../config';
@@ -9,12 +10,6 @@ import { sendEmail } from '../email/send';
 import { enterShop } from '../db/roles';
 
 export const INVITATION_DAYS = 7;
-
-export interface Actor {
-	id: number;
-	email: string;
-	name: string;
-}
 
 export interface PendingInvitation {
 	id: number;
@@ -52,7 +47,7 @@ async function mailInvitation(
 	email: string,
 	role: Role,
 	token: string,
-	by: Actor
+	by: NamedActor
 ) {
 	const url = `${config.origin}/invitations/${token}`;
 	const mail = renderEmail({
@@ -76,7 +71,7 @@ export async function invite(
 	shop: ShopRef & { name: string },
 	email: string,
 	role: Role,
-	by: Actor,
+	by: NamedActor,
 	ip = ''
 ): Promise<{ token: string; alreadyMember: boolean; mailed: boolean }> {
 	const member = await knex('public.memberships as m')
@@ -128,7 +123,7 @@ export async function resendInvitation(
 	knex: Knex,
 	shop: ShopRef & { name: string },
 	invitationId: number,
-	by: Actor,
+	by: NamedActor,
 	ip = ''
 ) {
 	const inv = await knex('public.invitations')
@@ -144,7 +139,7 @@ export async function revokeInvitation(
 	knex: Knex,
 	shop: ShopRef,
 	invitationId: number,
-	by: Actor,
+	by: NamedActor,
 	ip = ''
 ) {
 	const [row] = await knex('public.invitations')

@@ -4,7 +4,7 @@ import type { Role } from '$lib/permissions';
 import { audit } from '../audit';
 import { withShop, type ShopRef } from '../db/tenant';
 import { logLifecycle } from '../shops/lifecycle';
-import type { Actor } from './invitations';
+import type { NamedActor } from '../actor';
 import { enterShop } from '../db/roles';
 
 export interface MemberView {
@@ -20,7 +20,7 @@ export async function listMembers(knex: Knex, shopId: number): Promise<MemberVie
 	const rows = await knex('public.memberships as m')
 		.join('public.users as u', 'u.id', 'm.user_id')
 		.where('m.shop_id', shopId)
-		// By name, not by role: a role change must not move the row under the pointer (issue 18).
+		// By name, not by role: a role change must not move the row under the pointer.
 		.orderByRaw('lower(u.name), m.id')
 		.select('m.id', 'u.id as user_id', 'u.name', 'u.email', 'm.role', 'm.created_at');
 	return rows.map((r) => ({
@@ -62,7 +62,7 @@ export async function changeRole(
 	shop: ShopRef,
 	membershipId: number,
 	newRole: Role,
-	by: Actor & { role: Role },
+	by: NamedActor & { role: Role },
 	ip = ''
 ): Promise<MemberChangeResult> {
 	return knex.transaction(async (trx) => {
@@ -97,7 +97,7 @@ export async function removeMember(
 	knex: Knex,
 	shop: ShopRef,
 	membershipId: number,
-	by: Actor & { role: Role },
+	by: NamedActor & { role: Role },
 	ip = ''
 ): Promise<MemberChangeResult> {
 	return knex.transaction(async (trx) => {

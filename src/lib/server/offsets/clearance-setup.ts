@@ -1,5 +1,5 @@
 import type { Knex } from 'knex';
-import type { Setup } from '$lib/offsets';
+import { tipZ, zeroHeightFromWorkOffset, type Setup, type ZeroHeightGeometry } from '$lib/offsets';
 import type { MachineRecord } from './machine-state';
 
 /**
@@ -11,13 +11,8 @@ import type { MachineRecord } from './machine-state';
  * - planes are given for the fixtures whose program-zero height h_k is known (docs/OFFSETS.md §8).
  */
 
-/** What besides the work offset h_k needs, per convention (DESIGN.md §2). */
-export interface ClearanceGeometry {
-	/** R: gauge-line machine Z on the reference (gauge-length). */
-	referenceGaugeLineZ: number | null;
-	/** R + L_m: the master tool's touch on the reference (master-tool). */
-	masterTouchZ: number | null;
-}
+/** What besides the work offset h_k needs, per convention (the engine's ZeroHeightGeometry). */
+export type ClearanceGeometry = ZeroHeightGeometry;
 
 /** A fixture of a setup as the builder needs it. */
 export interface ClearanceFixture {
@@ -28,22 +23,17 @@ export interface ClearanceFixture {
 	obstacleHeight: number;
 }
 
-const round6 = (v: number) => Math.round(v * 1e6) / 1e6;
-
 /**
- * h_k (program zero above the reference) from a work offset, by the convention table of
- * DESIGN.md §2: reference-touch W = h; gauge-length W = R + h; master-tool W = R + h + L_m.
- * Null when the value it needs (R, or R + L_m) is not known.
+ * h_k (program zero above the reference) from a work offset: the engine's
+ * zeroHeightFromWorkOffset for this machine's convention. Null when the value it needs (R, or
+ * R + L_m) is not known.
  */
 export function zeroHeightFor(
 	machine: Pick<MachineRecord, 'convention'>,
 	workZ: number,
 	g: ClearanceGeometry
 ): number | null {
-	if (machine.convention === 'reference-touch') return workZ;
-	if (machine.convention === 'gauge-length')
-		return g.referenceGaugeLineZ === null ? null : round6(workZ - g.referenceGaugeLineZ);
-	return g.masterTouchZ === null ? null : round6(workZ - g.masterTouchZ);
+	return zeroHeightFromWorkOffset(machine.convention, workZ, g);
 }
 
 /** The engine's Setup for clearance planes, or null when no fixture's h_k is known. */
@@ -92,5 +82,5 @@ export async function masterTouchZOf(
 			{ column: 'r.id', order: 'desc' }
 		])
 		.first('r.machine_z', 'r.block_height');
-	return r ? round6(Number(r.machine_z) - Number(r.block_height)) : null;
+	return r ? tipZ(Number(r.machine_z), Number(r.block_height)) : null;
 }

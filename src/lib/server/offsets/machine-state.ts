@@ -14,7 +14,7 @@ import {
 	type Setup
 } from '$lib/offsets';
 
-import { clearanceSetup, masterTouchZOf, zeroHeightFor } from './clearance-setup';
+import { clearanceSetup, masterTouchZOf } from './clearance-setup';
 
 /** A machine row as the pages and the engine need it. `trx` below is always a shop transaction (withShop). */
 export interface MachineRecord {
@@ -266,20 +266,6 @@ export async function engineSetups(
 		if (built) out.push(built);
 	}
 	return out;
-}
-
-/**
- * h_k (program zero above the reference) from a work offset (./clearance-setup zeroHeightFor):
- * W itself when tips are touched on the reference; W − R from the gauge line (needs R);
- * W − (R + L_m) in master-tool (needs the master's touch).
- */
-export function zeroHeightOf(
-	machine: MachineRecord,
-	workZ: number,
-	referenceGaugeLineZ: number | null,
-	masterTouchZ: number | null = null
-): number | null {
-	return zeroHeightFor(machine, workZ, { referenceGaugeLineZ, masterTouchZ });
 }
 
 export interface MachineState {

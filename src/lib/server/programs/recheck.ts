@@ -1,7 +1,7 @@
 import type { Knex } from 'knex';
 import type { Dialect } from '$lib/offsets';
 import { audit } from '../audit';
-import type { Actor } from '../setups/write';
+import type { Actor } from '../actor';
 import { checksInBackground } from './file';
 import type { CheckInput } from './input';
 import { checkStream, doneFields } from './run';

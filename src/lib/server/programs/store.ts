@@ -6,7 +6,7 @@ import { audit } from '../audit';
 import { afterTransaction } from '../db/after-transaction';
 import { storagePath } from '../setups/photos';
 import type { SetupDetail } from '../setups/detail';
-import type { Actor } from '../setups/write';
+import type { Actor } from '../actor';
 import { checksInBackground, checkProgramFile, countLines, programNameFrom } from './file';
 import { programSetupFor, type CheckInput } from './input';
 import { checkWhole, doneFields } from './run';

@@ -24,7 +24,8 @@ import {
 	tableFrom,
 	type MachineRecord
 } from '../offsets/machine-state';
-import { parseLength, ReadingInputError, type Actor, type ReadingIssue } from '../readings/record';
+import type { Actor } from '../actor';
+import { parseLength, ReadingInputError, type ReadingIssue } from '../readings/input';
 import { readbackHours, syncReadbackFindings } from './findings';
 
 export interface RecordedReadback {

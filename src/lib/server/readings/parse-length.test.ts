@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import type { MachineRecord } from '../offsets/machine-state';
-import { parseLength, type ReadingIssue } from './record';
+import { parseLength, type ReadingIssue } from './input';
 
-// The reading forms read lengths through the same strict reader as every other form
-// (issue 13): "1,000" in the block height used to be read as 1.000.
+// The reading forms read lengths through the same strict reader as every other form:
+// "1,000" in the block height was once read as 1.000, a thousandfold slip.
 const mill = (units: 'inch' | 'mm', resolution: number): MachineRecord => ({
 	id: 1,
 	name: 'Mill 1',

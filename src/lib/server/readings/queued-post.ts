@@ -5,7 +5,7 @@ import type { Member } from '../guard';
 import { machineFromParam } from '../machines/load';
 import { actorOf } from './form';
 import { formUrlFor, recordQueuedReading } from './queued';
-import { ReadingInputError } from './record';
+import { ReadingInputError } from './input';
 
 const STATUS: Record<QueuedReadingAnswer['outcome'], number> = {
 	saved: 201,

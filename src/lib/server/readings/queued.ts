@@ -10,16 +10,12 @@
 import type { Knex } from 'knex';
 import { formatWithUnits } from '$lib/offsets';
 import type { QueuedReading, QueuedReadingAnswer, QueueStop } from '$lib/schemas/queued-reading';
+import { stopsOf, type ReadingPreview } from '$lib/reading-preview';
+import type { Actor } from '../actor';
 import { listReferences, type MachineRecord } from '../offsets/machine-state';
-import {
-	instrumentText,
-	previewPartTopReading,
-	previewToolReading,
-	ReadingInputError,
-	writeReadingAndOffset,
-	type Actor,
-	type ReadingPreview
-} from './record';
+import { ReadingInputError } from './input';
+import { previewPartTopReading, previewToolReading } from './preview';
+import { partTopReading, toolReading, writeReadingAndOffset } from './record';
 
 /** Fields only the reading form has (correcting, the override dialog). */
 const notAtForm = { correctsReadingId: '', override: false, overrideReason: '' };
@@ -155,17 +151,30 @@ export async function recordQueuedReading(
 		);
 	}
 
-	const computed =
+	// Computed as the reading forms compute it; the row is the one the form would record.
+	const { preview, reading, touchingToolH } =
 		q.kind === 'tool'
-			? await previewToolReading(trx, machine, q.toolId, { ...q.form, ...notAtForm }, now)
-			: await previewPartTopReading(trx, machine, q.fixtureId, { ...q.form, ...notAtForm }, now);
-	const { preview } = computed;
-	const touchingToolH = q.kind === 'part-top' ? (computed.parsed.tool?.h ?? null) : null;
+			? await previewToolReading(trx, machine, q.toolId, { ...q.form, ...notAtForm }, now).then(
+					(c) => ({
+						preview: c.preview,
+						reading: toolReading(machine, c.parsed, q.form),
+						touchingToolH: null
+					})
+				)
+			: await previewPartTopReading(
+					trx,
+					machine,
+					q.fixtureId,
+					{ ...q.form, ...notAtForm },
+					now
+				).then((c) => ({
+					preview: c.preview,
+					reading: partTopReading(machine, c.parsed, q.form),
+					touchingToolH: c.parsed.tool.h
+				}));
 	const reasons: QueueStop[] = [
 		...(await lateReasons(trx, machine, preview, measuredAt, touchingToolH)),
-		...[...preview.findings, ...preview.toolFindings]
-			.filter((f) => f.severity === 'stop')
-			.map((f) => ({ kind: f.kind, message: f.message }))
+		...stopsOf(preview).map((f) => ({ kind: f.kind, message: f.message }))
 	];
 	if (reasons.length > 0) {
 		return {
@@ -177,41 +186,13 @@ export async function recordQueuedReading(
 		};
 	}
 
-	const p = computed.parsed;
-	const reading =
-		q.kind === 'tool'
-			? {
-					kind: q.form.toolChanged ? 'tool-remeasure' : 'tool-touch',
-					tool_id: p.tool.id,
-					instrument: instrumentText(q.form.touchedThrough, p.block, machine),
-					tool_changed: q.form.toolChanged
-				}
-			: {
-					kind: 'part-top',
-					tool_id: p.tool.id,
-					fixture_id: 'fixture' in p ? (p.fixture as { id: number }).id : null,
-					instrument: `T${p.tool.t}, ${instrumentText(q.form.touchedThrough, p.block, machine)}`,
-					tool_changed: q.form.fixtureChanged
-				};
-	const target =
-		q.kind === 'tool'
-			? `${machine.name} T${p.tool.t} H${p.tool.h}`
-			: `${machine.name} ${preview.register}`;
 	const saved = await writeReadingAndOffset(
 		trx,
 		machine,
 		actor,
-		{
-			...reading,
-			machine_z: p.machineZ,
-			block_height: p.block,
-			reference_version: p.reference.version,
-			reason: q.form.reason,
-			measured_at: measuredAt,
-			client_key: q.clientKey
-		},
+		{ ...reading.row, measured_at: measuredAt, client_key: q.clientKey },
 		preview,
-		target,
+		reading.target,
 		// Stop values never get here (needs-decision above): an override is made at the form.
 		{ requested: false, reason: '' }
 	);

@@ -5,12 +5,14 @@
  * version's established_at, so nothing else is written.
  */
 import type { Knex } from 'knex';
-import { checkOffsets, formatWithUnits } from '$lib/offsets';
+import { checkOffsets, formatWithUnits, offsetDelta, tipZ } from '$lib/offsets';
 import type { ReferenceReadingForm } from '$lib/schemas/readings';
 import { audit } from '../audit';
 import { recheckMachine } from '../fleet/recheck';
 import { listReferences, machineState, type MachineRecord } from '../offsets/machine-state';
-import { findTool, parseLength, ReadingInputError, type Actor, type ReadingIssue } from './record';
+import type { Actor } from '../actor';
+import { parseLength, ReadingInputError, type ReadingIssue } from './input';
+import { findTool } from './lookups';
 
 export interface ReferencePreview {
 	version: number;
@@ -117,14 +119,14 @@ export async function previewReference(
 			])
 			.first();
 		if (last) {
-			const before = Number(last.machine_z) - Number(last.block_height);
-			const nowTip = machineZ - block;
+			const before = tipZ(Number(last.machine_z), Number(last.block_height));
+			const nowTip = tipZ(machineZ, block);
 			shift = {
 				tool: `T${tool.t}`,
 				now: nowTip,
 				before,
 				beforeAt: new Date(last.taken_at).toISOString(),
-				delta: Math.round((nowTip - before) * 1e6) / 1e6
+				delta: offsetDelta(nowTip, before)
 			};
 		}
 	}

@@ -1,6 +1,7 @@
 import type { Knex } from 'knex';
 import type { SetupForm } from '$lib/schemas/setups';
-import { createSetup, type Actor, type WriteResult } from './write';
+import type { Actor } from '../actor';
+import { createSetup, type WriteResult } from './write';
 
 /** Reading a setup back into the form's shape, and copying it. `trx` is a shop transaction. */
 

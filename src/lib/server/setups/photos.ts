@@ -5,7 +5,7 @@ import type { Knex } from 'knex';
 import { formatBytes } from '$lib/format';
 import { config } from '../config';
 import { audit } from '../audit';
-import type { Actor } from './write';
+import type { Actor } from '../actor';
 
 /** Largest photo we keep (bytes). The production server's BODY_SIZE_LIMIT must be above it. */
 export const PHOTO_MAX_BYTES = 8 * 1024 * 1024;

@@ -2,7 +2,8 @@ import type { Knex } from 'knex';
 import { NEXT_STATE, SETUP_STATE_LABEL, type SetupState } from '$lib/schemas/setups';
 import { audit } from '../audit';
 import { latestSignoff } from './signoff';
-import type { Actor, WriteResult } from './write';
+import type { Actor } from '../actor';
+import type { WriteResult } from './write';
 
 /** A setup's state changes. `trx` is a shop transaction. */
 

@@ -5,15 +5,11 @@ import {
 	type SetupForm,
 	type SetupState
 } from '$lib/schemas/setups';
+import type { Actor } from '../actor';
 import { audit } from '../audit';
 import { getMachine } from '../offsets/machine-state';
 
 /** Creating and editing setups. `trx` is always a shop transaction (withShop). */
-
-export interface Actor {
-	id: number;
-	email: string;
-}
 
 /** A refusal tied to a form field (superforms path, e.g. `fixtures[1].fixtureId`). */
 export interface FieldIssue {

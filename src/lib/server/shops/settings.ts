@@ -1,11 +1,12 @@
 /**
- * Shop settings (issue 18): name, time zone, default units for new machines, the nightly check's
+ * Shop settings (owner and admin): name, time zone, default units for new machines, the nightly check's
  * hour and the shop's own limits for the offset checks. Stored on `public.shops`; every change is
  * written to the shop's audit log with its old and new value, in the same transaction.
  */
 import type { Knex } from 'knex';
 import type { PolicyInput, Units } from '$lib/offsets';
 import type { ShopSettingsInput } from '$lib/schemas/settings';
+import type { Actor } from '../actor';
 import { audit } from '../audit';
 import { enterShop } from '../db/roles';
 import type { ShopRef } from '../db/tenant';
@@ -72,11 +73,6 @@ export async function boardAges(
 export async function defaultUnits(knex: Knex | Knex.Transaction, shopId: number): Promise<Units> {
 	const row = await knex('public.shops').where({ id: shopId }).first('default_units');
 	return (row?.default_units ?? 'inch') as Units;
-}
-
-export interface Actor {
-	id: number;
-	email: string;
 }
 
 /**

@@ -23,14 +23,9 @@ import {
 	type MachineRecord,
 	type ReferenceRecord
 } from '../offsets/machine-state';
-import {
-	ReadingInputError,
-	writeReadingAndOffset,
-	type BriefFinding,
-	type ReadingIssue,
-	type ReadingPreview,
-	type Recorded
-} from '../readings/record';
+import { ReadingInputError, type ReadingIssue } from '../readings/input';
+import { writeReadingAndOffset, type Recorded } from '../readings/record';
+import type { BriefFinding, ReadingPreview } from '$lib/reading-preview';
 import { activeHNumbers } from '../tools/service';
 import { getAssembly, type Actor, type Assembly, type Measurement } from './library';
 

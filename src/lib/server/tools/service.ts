@@ -1,7 +1,8 @@
 import type { Knex } from 'knex';
 import { audit } from '../audit';
 import { isUniqueViolation } from '../db/errors';
-import type { Actor, ServiceResult } from '../machines/service';
+import type { Actor } from '../actor';
+import type { ServiceResult } from '../machines/service';
 import type { ParsedToolRow } from './csv';
 
 export interface NewTool {
@@ -145,7 +146,7 @@ export async function addFixture(
 	by: Actor,
 	ip = ''
 ): Promise<ServiceResult> {
-	// Extended work offsets: only as many as the machine is set to have (issue 16).
+	// Extended work offsets (G54.1 P…): only as many as the machine is set to have.
 	const extended = /^G54\.1 P(\d+)$/.exec(f.register);
 	if (extended) {
 		const m = await trx('machines')

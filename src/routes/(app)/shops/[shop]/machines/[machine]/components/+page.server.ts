@@ -23,7 +23,7 @@ import {
 	recordToolRegister,
 	toolRegisters
 } from '$lib/server/components/tool-registers';
-import { ReadingInputError } from '$lib/server/readings/record';
+import { ReadingInputError } from '$lib/server/readings/input';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {

@@ -10,7 +10,7 @@ import { recordReadback, setupRegistersOf } from '$lib/server/readbacks/record';
 import { machineVerification } from '$lib/server/readbacks/status';
 import { setupOnMachine } from '$lib/server/setups/queries';
 import { actorOf } from '$lib/server/readings/form';
-import { ReadingInputError } from '$lib/server/readings/record';
+import { ReadingInputError } from '$lib/server/readings/input';
 import type { Actions, PageServerLoad, RequestEvent } from './$types';
 
 /**

@@ -1,14 +1,13 @@
-import { redirect } from '@sveltejs/kit';
 import { superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { formatLength } from '$lib/offsets';
-import { previewKey, referenceReadingSchema } from '$lib/schemas/readings';
+import { referenceReadingSchema } from '$lib/schemas/readings';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
 import { listReferences } from '$lib/server/offsets/machine-state';
 import { machineOverview } from '$lib/server/offsets/overview';
-import { actorOf, refuse } from '$lib/server/readings/form';
+import { previewAction, saveAction } from '$lib/server/readings/form';
 import { previewReference, recordReference } from '$lib/server/readings/reference';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -51,31 +50,21 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	preview: async (event) => {
-		const { shop } = await requireMember(event, 'machines.write');
+		const member = await requireMember(event, 'machines.write');
 		const form = await superValidate(event.request, zod4(referenceReadingSchema));
-		if (!form.valid) return refuse(form, null);
-		try {
-			const preview = await withShop(shop, async (trx) => {
-				const machine = await machineFromParam(trx, event.params.machine);
-				return (await previewReference(trx, machine, form.data)).preview;
-			});
-			return { form, preview, previewKey: previewKey(form.data) };
-		} catch (e) {
-			return refuse(form, e);
-		}
+		return previewAction(event, member, form, async (trx, machine) => {
+			return (await previewReference(trx, machine, form.data)).preview;
+		});
 	},
 	save: async (event) => {
-		const { shop, user } = await requireMember(event, 'machines.write');
+		const member = await requireMember(event, 'machines.write');
 		const form = await superValidate(event.request, zod4(referenceReadingSchema));
-		if (!form.valid) return refuse(form, null);
-		try {
-			await withShop(shop, async (trx) => {
-				const machine = await machineFromParam(trx, event.params.machine);
-				return recordReference(trx, machine, form.data, actorOf(event, user));
-			});
-		} catch (e) {
-			return refuse(form, e);
-		}
-		redirect(303, `/shops/${shop.slug}/machines/${event.params.machine}?reference=new`);
+		return saveAction(
+			event,
+			member,
+			form,
+			(trx, machine, actor) => recordReference(trx, machine, form.data, actor),
+			() => `/shops/${member.shop.slug}/machines/${event.params.machine}?reference=new`
+		);
 	}
 };

@@ -8,7 +8,7 @@ import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
 import { actorOf } from '$lib/server/readings/form';
-import { ReadingInputError } from '$lib/server/readings/record';
+import { ReadingInputError } from '$lib/server/readings/input';
 import { recordEdgeReading } from '$lib/server/components/edge';
 import { currentComponents } from '$lib/server/components/store';
 import {

@@ -6,12 +6,12 @@ import { isMachineReadback, listReadbacks, readbackValues } from '$lib/server/re
 import { recordReadback } from '$lib/server/readbacks/record';
 import { machineVerification } from '$lib/server/readbacks/status';
 import { actorOf } from '$lib/server/readings/form';
-import { ReadingInputError } from '$lib/server/readings/record';
+import { ReadingInputError } from '$lib/server/readings/input';
 import { readbackSchema } from '$lib/schemas/readback';
 import type { RequestHandler } from './$types';
 
 /**
- * Read-backs at the control (issue 16). GET: past read-backs, newest first (`?limit=`, default
+ * Read-backs at the control. GET: past read-backs, newest first (`?limit=`, default
  * 20, at most 200), each register's verification, and with `?id=` one read-back's values. Any
  * member may read. POST: record one — JSON `{ source: 'file', fileName, text }` or
  * `{ source: 'typed', values: { work: { G54: '1.2500' }, tools: { 3: '-13.6182' } } }`, or a

@@ -4,7 +4,7 @@ import { clientAddress } from '$lib/server/auth/client-address';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { getMachine } from '$lib/server/offsets/machine-state';
-import { ReadingInputError } from '$lib/server/readings/record';
+import { ReadingInputError } from '$lib/server/readings/input';
 import { assemblyParam, readBody, refuse } from '$lib/server/tool-library/api';
 import { assignAssembly, previewAssignment } from '$lib/server/tool-library/assign';
 import { getAssembly } from '$lib/server/tool-library/library';

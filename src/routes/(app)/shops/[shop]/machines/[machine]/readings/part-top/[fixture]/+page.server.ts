@@ -1,18 +1,17 @@
-import { error, redirect } from '@sveltejs/kit';
+import { error } from '@sveltejs/kit';
 import { superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
-import { partTopReadingSchema, previewKey } from '$lib/schemas/readings';
+import { partTopReadingSchema } from '$lib/schemas/readings';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
 import { machineOverview } from '$lib/server/offsets/overview';
-import { actorOf, refuse } from '$lib/server/readings/form';
+import { correctingReading, lastPartTopToolId } from '$lib/server/readings/correcting';
+import { previewAction, saveAction } from '$lib/server/readings/form';
+import { findFixture } from '$lib/server/readings/lookups';
 import { prefillReading } from '$lib/server/readings/prefill';
-import {
-	findFixture,
-	previewPartTopReading,
-	recordPartTopReading
-} from '$lib/server/readings/record';
+import { previewPartTopReading } from '$lib/server/readings/preview';
+import { recordPartTopReading } from '$lib/server/readings/record';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -31,44 +30,18 @@ export const load: PageServerLoad = async (event) => {
 			value: t.value,
 			status: t.status
 		}));
-		const last = await trx('readings')
-			.where({ machine_id: machine.id, fixture_id: fixture.id, kind: 'part-top' })
-			.orderBy([
-				{ column: 'taken_at', order: 'desc' },
-				{ column: 'id', order: 'desc' }
-			])
-			.first('tool_id');
-		const raw = event.url.searchParams.get('corrects');
-		const old =
-			raw && /^\d{1,18}$/.test(raw)
-				? await trx('readings as r')
-						.leftJoin('public.users as u', 'u.id', 'r.taken_by')
-						.where({
-							'r.id': Number(raw),
-							'r.machine_id': machine.id,
-							'r.fixture_id': fixture.id,
-							'r.kind': 'part-top'
-						})
-						.first(
-							'r.id',
-							'r.machine_z',
-							'r.block_height',
-							'r.taken_at',
-							'r.tool_id',
-							'u.name as by'
-						)
-				: undefined;
-		const corrects = old
-			? {
-					id: Number(old.id),
-					machineZ: Number(old.machine_z),
-					blockHeight: Number(old.block_height),
-					at: new Date(old.taken_at).toISOString(),
-					by: (old.by as string | null) ?? null
-				}
-			: null;
+		const corrects = await correctingReading(
+			trx,
+			machine.id,
+			{ fixtureId: fixture.id },
+			event.url.searchParams.get('corrects')
+		);
+		// The tool of the corrected reading, else the one that touched last, else any measured one.
 		const defaultTool =
-			old?.tool_id ?? last?.tool_id ?? tools.find((t) => t.value !== null)?.id ?? '';
+			corrects?.toolId ??
+			(await lastPartTopToolId(trx, machine.id, fixture.id)) ??
+			tools.find((t) => t.value !== null)?.id ??
+			'';
 		const form = await superValidate(
 			{
 				withToolId: String(defaultTool),
@@ -91,41 +64,23 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	preview: async (event) => {
-		const { shop } = await requireMember(event, 'setups.write');
+		const member = await requireMember(event, 'setups.write');
 		const form = await superValidate(event.request, zod4(partTopReadingSchema));
-		if (!form.valid) return refuse(form, null);
-		try {
-			const preview = await withShop(shop, async (trx) => {
-				const machine = await machineFromParam(trx, event.params.machine);
-				return (await previewPartTopReading(trx, machine, event.params.fixture, form.data)).preview;
-			});
-			return { form, preview, previewKey: previewKey(form.data) };
-		} catch (e) {
-			return refuse(form, e);
-		}
+		return previewAction(event, member, form, async (trx, machine) => {
+			return (await previewPartTopReading(trx, machine, event.params.fixture, form.data)).preview;
+		});
 	},
 	save: async (event) => {
-		const { shop, user } = await requireMember(event, 'setups.write');
+		const member = await requireMember(event, 'setups.write');
 		const form = await superValidate(event.request, zod4(partTopReadingSchema));
-		if (!form.valid) return refuse(form, null);
-		let saved;
-		try {
-			saved = await withShop(shop, async (trx) => {
-				const machine = await machineFromParam(trx, event.params.machine);
-				return recordPartTopReading(
-					trx,
-					machine,
-					event.params.fixture,
-					form.data,
-					actorOf(event, user)
-				);
-			});
-		} catch (e) {
-			return refuse(form, e);
-		}
-		redirect(
-			303,
-			`/shops/${shop.slug}/machines/${event.params.machine}/history/work/${encodeURIComponent(saved.preview.register)}?saved=${saved.readingId}`
+		return saveAction(
+			event,
+			member,
+			form,
+			(trx, machine, actor) =>
+				recordPartTopReading(trx, machine, event.params.fixture, form.data, actor),
+			(saved) =>
+				`/shops/${member.shop.slug}/machines/${event.params.machine}/history/work/${encodeURIComponent(saved.preview.register)}?saved=${saved.readingId}`
 		);
 	}
 };
