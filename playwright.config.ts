@@ -41,7 +41,9 @@ export default defineConfig({
 				ORIGIN: baseURL,
 				// Setup photos go up to 8 MB, programs up to 20 MB; adapter-node refuses bodies over
 				// 512 kB by default.
-				BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '24M'
+				BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '24M',
+				// A deleted shop's grace period, short so shop-life.spec.ts sees the drop (issue 18).
+				SHOP_DELETION_GRACE_SECONDS: '20'
 			}
 		},
 		// The background worker (shop-checks queue: "Check now" on the fleet board), same env.

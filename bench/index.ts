@@ -1,17 +1,21 @@
 /**
- * `npm run bench`: the program check against a generated 100 000- and 1 000 000-line program,
- * and the npm package gcode-parser (2.2.0) reading the same files, each run in a fresh process.
+ * `npm run bench`: the program check against a generated 100 000- and 1 000 000-line program
+ * and a 1 000 000-line posted-style one (subprograms after M30), the npm package gcode-parser
+ * (2.2.0) reading the same files, and a bare read that only counts lines (the floor), each run
+ * in a fresh process.
  * Figures go to the console and to bench/out/results.json; docs/PERFORMANCE.md explains them.
  * Options: BENCH_RUNS (default 3; the median is reported), BENCH_SKIP_GENERATE=1.
  * Then the fleet board API under load (bench/fleet.ts, its own process). `npm run bench -- fleet`
- * runs only that one, `npm run bench -- program` only the program check.
+ * runs only that one, `npm run bench -- program` only the program check. `npm run bench -- scale`
+ * runs only the scale bench (bench/scale.ts: 10 → 100 → 1,000 shops behind `npm run cluster`).
+ * scripts/bench.sh starts PostgreSQL and Redis first, as `npm test` does.
  */
 import { execFileSync } from 'node:child_process';
 import { existsSync, mkdirSync, statSync, writeFileSync } from 'node:fs';
 import { cpus, loadavg } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { generateProgram } from './generate';
+import { generatePostedProgram, generateProgram } from './generate';
 
 interface RunResult {
 	runner: string;
@@ -25,10 +29,11 @@ const here = dirname(fileURLToPath(import.meta.url));
 const outDir = join(here, 'out');
 const RUNS = Number(process.env.BENCH_RUNS ?? 3);
 const SIZES = [
-	{ name: '100k', lines: 100_000 },
-	{ name: '1M', lines: 1_000_000 }
+	{ name: '100k', lines: 100_000, make: generateProgram },
+	{ name: '1M', lines: 1_000_000, make: generateProgram },
+	{ name: 'posted-1M', lines: 1_000_000, make: generatePostedProgram }
 ];
-const RUNNERS = ['datumkeep', 'gcode-parser-stream', 'gcode-parser-lines'];
+const RUNNERS = ['datumkeep', 'floor', 'gcode-parser-stream', 'gcode-parser-lines'];
 
 function runOnce(runner: string, file: string): RunResult {
 	const out = execFileSync(
@@ -52,7 +57,7 @@ async function main(): Promise<void> {
 	for (const size of SIZES) {
 		const file = join(outDir, `program-${size.name}.nc`);
 		if (process.env.BENCH_SKIP_GENERATE !== '1' || !existsSync(file)) {
-			await generateProgram(file, size.lines);
+			await size.make(file, size.lines);
 		}
 		files[size.name] = file;
 		console.log(`program ${size.name}: ${mb(statSync(file).size)} MiB, ${file}`);
@@ -79,6 +84,7 @@ async function main(): Promise<void> {
 				linesPerSecond: Math.round((list[0].lines / ms) * 1000),
 				linesPerCpuSecond: Math.round((list[0].lines / cpuMs) * 1000),
 				peakRssMiB: Number(mb(Math.max(...list.map((r) => r.memory.peakRss)))),
+				baseRssMiB: Number(mb(list[0].memory.baseRss)),
 				peakHeapUsedMiB: Number(mb(Math.max(...list.map((r) => r.memory.peakHeap)))),
 				baseHeapUsedMiB: Number(mb(list[0].memory.baseHeap)),
 				allMs: list.map((r) => Math.round(r.ms))
@@ -98,6 +104,12 @@ async function main(): Promise<void> {
 		const dk = row(size.name, 'datumkeep');
 		const ratio = (other: string, field: string) =>
 			(dk[field] / row(size.name, other)[field]).toFixed(1);
+		const floor = row(size.name, 'floor');
+		console.log(
+			`${size.name}: Datumkeep vs the bare read (floor): ${(dk.ms / floor.ms).toFixed(1)}× its wall time ` +
+				`(${(dk.cpuMs / floor.cpuMs).toFixed(1)}× cpu); peak RSS ${dk.peakRssMiB} MiB vs ${floor.peakRssMiB} MiB, ` +
+				`${(dk.peakRssMiB - floor.peakRssMiB).toFixed(1)} MiB above the floor's`
+		);
 		console.log(
 			`${size.name}: Datumkeep / gcode-parser throughput, wall (cpu): ` +
 				`${ratio('gcode-parser-stream', 'linesPerSecond')}× (${ratio('gcode-parser-stream', 'linesPerCpuSecond')}×) vs its stream, ` +
@@ -120,9 +132,14 @@ async function main(): Promise<void> {
 }
 
 const only = process.argv[2];
-if (only && only !== 'fleet' && only !== 'program') {
-	console.error(`npm run bench [-- fleet | program]; got "${only}"`);
+if (only && only !== 'fleet' && only !== 'program' && only !== 'scale') {
+	console.error(`npm run bench [-- fleet | program | scale]; got "${only}"`);
 	process.exit(1);
+}
+// The scale bench (bench/scale.ts) runs only when asked for: it takes many minutes.
+if (only === 'scale') {
+	execFileSync(process.execPath, ['--import', 'tsx', join(here, 'scale.ts')], { stdio: 'inherit' });
+	process.exit(0);
 }
 (only === 'fleet' ? Promise.resolve() : main())
 	.then(() => {

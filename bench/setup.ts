@@ -6,7 +6,7 @@
 import type { ProgramSetup } from '../src/lib/offsets';
 
 export const BENCH_SETUP: ProgramSetup = {
-	machine: { name: 'Mill 1', units: 'inch', zTravel: 20 },
+	machine: { name: 'Mill 1', units: 'inch', zTravel: 20, controlStyle: 'iso' },
 	table: {
 		convention: 'reference-touch',
 		units: 'inch',
@@ -20,5 +20,7 @@ export const BENCH_SETUP: ProgramSetup = {
 			{ register: 'G55', zeroHeight: 3.5 }
 		],
 		obstacles: [{ label: 'strap clamp', height: 2 }]
-	}
+	},
+	// As the server checks: the picture of the tip's heights is kept too.
+	profile: true
 };

@@ -148,6 +148,34 @@ describe('fake Stripe with the real Stripe SDK', () => {
 		return { customer, sub };
 	}
 
+	it('honours subscription_data[trial_end]: trialing until then, nothing charged, near ends refused', async () => {
+		const customer = await stripe.customers.create({ email: 'owner@fernhill.test' });
+		const base = {
+			mode: 'subscription' as const,
+			customer: customer.id,
+			line_items: [{ price: 'price_small', quantity: 1 }],
+			success_url: 'http://app.test/billing/done'
+		};
+		const now = Math.floor(Date.now() / 1000);
+		// Stripe's Checkout wants the trial end at least 48 hours ahead.
+		await expect(
+			stripe.checkout.sessions.create({ ...base, subscription_data: { trial_end: now + 3600 } })
+		).rejects.toMatchObject({ param: 'subscription_data[trial_end]' });
+		const end = now + 10 * 86_400;
+		const session = await stripe.checkout.sessions.create({
+			...base,
+			subscription_data: { trial_end: end }
+		});
+		expect(session.amount_total).toBe(0);
+		await pay(session.url!, '4242 4242 4242 4242');
+		const [sub] = (await stripe.subscriptions.list({ customer: customer.id })).data;
+		expect(sub.status).toBe('trialing');
+		expect(sub.trial_end).toBe(end);
+		expect(sub.items.data[0].current_period_end).toBe(end);
+		const invoices = (await stripe.invoices.list({ customer: customer.id })).data;
+		expect(invoices.map((i) => i.amount_paid)).toEqual([0]);
+	});
+
 	it('creates, retrieves and updates customers; unknown ids are resource_missing 404s', async () => {
 		const created = await stripe.customers.create({
 			email: 'owner@fernhill.test',

@@ -25,7 +25,8 @@ case "${DATABASE_URL##*/}" in
 	*) die "npm test drops and re-creates its database; DATABASE_URL must name a *_test database, not ${DATABASE_URL##*/}." ;;
 esac
 
-need_debian 'postgresql:/usr/lib/postgresql/*/bin/pg_ctl' 'redis-server:/usr/bin/redis-server' 'chromium:/usr/bin/chromium'
+need_debian 'postgresql:/usr/lib/postgresql/*/bin/pg_ctl' 'redis-server:/usr/bin/redis-server' 'chromium:/usr/bin/chromium' \
+	'haproxy:/usr/sbin/haproxy' 'pgbouncer:/usr/sbin/pgbouncer' # tests/e2e/cluster.spec.ts
 need_node_modules
 bash scripts/services.sh up
 

@@ -63,6 +63,13 @@ export interface DemoMachine {
 		/** G-code programs uploaded to the setup and checked against it (program check). */
 		programs?: { name: string; fileName: string; lines: string[] }[];
 	}[];
+	/** Read-backs at the control (issue 16), oldest first: a saved file, or values typed from the screen. */
+	readbacks?: {
+		hoursAgo: number;
+		note: string;
+		file?: { name: string; lines: string[] };
+		typed?: { work?: Record<string, string>; tools?: Record<string, string> };
+	}[];
 }
 
 export interface DemoShop {
@@ -222,6 +229,38 @@ export const demoShops: DemoShop[] = [
 							}
 						]
 					}
+				],
+				readbacks: [
+					{
+						// The whole table read back from the control's saved file: everything matched.
+						hoursAgo: 45,
+						note: 'Saved from the control after loading the pump housing offsets.',
+						file: {
+							name: 'MILL1-OFFSETS.NC',
+							lines: [
+								'%',
+								'O9000 (OFFSET TABLES SAVED AT THE CONTROL)',
+								'G20',
+								'G10 L2 P1 X0. Y0. Z2.8125',
+								'G10 L2 P2 X0. Y0. Z1.0630',
+								'G10 L10 P1 R-15.8421',
+								'G10 L10 P2 R-14.7502',
+								'G10 L10 P3 R-13.9877',
+								'G10 L10 P4 R-14.3104',
+								'G10 L10 P5 R-15.1029',
+								'G10 L10 P6 R-15.3318',
+								'G10 L11 P1 R0.',
+								'G10 L11 P2 R0.',
+								'%'
+							]
+						}
+					},
+					{
+						// H4 re-keyed at the control after the tapping head was reseated: two digits swapped.
+						hoursAgo: 20,
+						note: 'H4 re-entered after reseating the tapping head.',
+						typed: { tools: { '4': '-14.3014' } }
+					}
 				]
 			},
 			{
@@ -347,6 +386,29 @@ export const demoShops: DemoShop[] = [
 						fixtures: [{ register: 'G54', obstacle: 61 }],
 						tools: [1, 2, 3],
 						ops: [{ name: 'Op 1 — face, bore and drill', register: 'G54' }]
+					}
+				],
+				readbacks: [
+					{
+						// Saved from the control, with some values written without a decimal point: this
+						// RS274NGC-style control reads "Z131207" as 131207 mm, not 131.207 mm.
+						hoursAgo: 90,
+						note: 'Offsets file from the control after keying in the flange tools.',
+						file: {
+							name: 'MILL3-OFFSETS.NGC',
+							lines: [
+								'%',
+								'(MILL 3 WORK AND TOOL OFFSETS)',
+								'G21 G90',
+								'G10 L2 P1 X0 Y0 Z-357.105',
+								'G10 L2 P2 X0 Y0 Z0',
+								'G10 L1 P1 Z112.480',
+								'G10 L1 P2 Z131207',
+								'G10 L1 P3 Z146.413',
+								'M30',
+								'%'
+							]
+						}
 					}
 				]
 			},

@@ -3,6 +3,8 @@ import type { Knex } from 'knex';
 import { seedProgram } from '$lib/server/programs/store';
 import { provisionShop } from '$lib/server/shops/provision';
 import { getSetupDetail } from '$lib/server/setups/queries';
+import { getMachine } from '$lib/server/offsets/machine-state';
+import { recordReadback } from '$lib/server/readbacks/record';
 import { demoShops, DEMO_PASSWORD, type DemoMachine } from './demo-data';
 
 const DAY = 86_400_000;
@@ -55,7 +57,7 @@ export async function seedDemo(
 				);
 				await trx.raw('set local search_path to ??, public', [created.schemaName]);
 				for (const machine of shop.machines) {
-					await seedMachine(trx, machine, { lead, operator, ago });
+					await seedMachine(trx, machine, { lead, operator, ago, shopId: created.id });
 				}
 				await trx('audit_log').insert({
 					actor_user_id: userIds.get(shop.people[0].email),
@@ -73,7 +75,7 @@ export async function seedDemo(
 async function seedMachine(
 	trx: Knex.Transaction,
 	m: DemoMachine,
-	ctx: { lead: number; operator: number; ago: (days: number) => Date }
+	ctx: { lead: number; operator: number; ago: (days: number) => Date; shopId: number }
 ): Promise<void> {
 	const [machine] = await trx('machines')
 		.insert({
@@ -82,6 +84,8 @@ async function seedMachine(
 			z_travel: m.zTravel,
 			resolution: m.resolution,
 			control_style: m.controlStyle,
+			// The G10 L10 form's machines have the usual 48 extended work offsets (issue 16).
+			extended_work_offsets: m.controlStyle === 'iso' ? 48 : 0,
 			convention: m.convention,
 			notes: m.notes,
 			created_at: ctx.ago(Math.max(...m.references.map((r) => r.daysAgo)) + 1)
@@ -247,5 +251,31 @@ async function seedMachine(
 			const program = { name: p.name, fileName: p.fileName, text: p.lines.join('\n') + '\n' };
 			await seedProgram(trx, detail!, program, { id: ctx.lead, email: '' }, ctx.ago(0));
 		}
+	}
+
+	// Read-backs go through the same path as the page, so their findings are stored too.
+	const record = (await getMachine(trx, machineId))!;
+	for (const rb of m.readbacks ?? []) {
+		const at = ctx.ago(rb.hoursAgo / 24);
+		const actor = { id: ctx.operator, email: '' };
+		await recordReadback(
+			trx,
+			ctx.shopId,
+			record,
+			actor,
+			rb.file
+				? {
+						source: 'file',
+						fileName: rb.file.name,
+						text: rb.file.lines.join('\r\n') + '\r\n',
+						note: rb.note
+					}
+				: {
+						source: 'typed',
+						values: { work: rb.typed?.work ?? {}, tools: rb.typed?.tools ?? {}, wear: {} },
+						note: rb.note
+					},
+			at
+		);
 	}
 }

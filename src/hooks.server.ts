@@ -4,6 +4,8 @@ import { handle as authHandle } from './auth';
 import { createSessionCache, sessionKey } from '$lib/server/auth/session-cache';
 import { db } from '$lib/server/db';
 import { changeFeed, perProcess, startedChangeFeed } from '$lib/server/db/change-feed';
+import { catchUp, parseWrote, WROTE_COOKIE, wroteCookie } from '$lib/server/db/read-your-writes';
+import { config } from '$lib/server/config';
 import { onlyReads } from '$lib/server/guard';
 import { requestGuard } from '$lib/server/request-guard';
 import { closeServerResources } from '$lib/server/shutdown';
@@ -66,7 +68,26 @@ const loadUser: Handle = async ({ event, resolve }) => {
  */
 const ownWritesVisible: Handle = async ({ event, resolve }) => {
 	const response = await resolve(event);
-	if (!onlyReads(event.request.method)) await startedChangeFeed()?.sync();
+	if (!onlyReads(event.request.method)) {
+		await startedChangeFeed()?.sync();
+		// For the other app nodes (read-your-writes.ts): when this user last wrote.
+		const secure = event.url.protocol === 'https:';
+		response.headers.append('set-cookie', wroteCookie(Date.now(), secure));
+	}
+	return response;
+};
+
+/**
+ * Before anything reads a cache: if this user wrote recently (through any app node) and this
+ * node's feed has not been heard up to then, wait for it ($lib/server/db/read-your-writes.ts).
+ */
+const othersWritesHeard: Handle = async ({ event, resolve }) => {
+	const wroteAt = parseWrote(event.cookies.get(WROTE_COOKIE));
+	const feed = wroteAt === undefined ? undefined : startedChangeFeed();
+	if (feed && wroteAt !== undefined) await catchUp(feed, wroteAt);
+	const response = await resolve(event);
+	// Which node answered, when there are several (npm run cluster): for people and tests.
+	if (config.nodeName) response.headers.set('x-datumkeep-node', config.nodeName);
 	return response;
 };
 
@@ -80,6 +101,7 @@ const securityHeaders: Handle = async ({ event, resolve }) => {
 
 export const handle = sequence(
 	requestGuard,
+	othersWritesHeard,
 	authHandle,
 	loadUser,
 	ownWritesVisible,

@@ -16,7 +16,8 @@ type Starter = () => Promise<Closable | Closable[]>;
 
 const QUEUES: Record<string, () => Promise<{ start: Starter }>> = {
 	'shop-checks': () => import('./shop-checks/index'),
-	'program-check': () => import('./program-check/index')
+	'program-check': () => import('./program-check/index'),
+	'shop-lifecycle': () => import('./shop-lifecycle/index')
 };
 
 async function main() {

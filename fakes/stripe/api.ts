@@ -3,7 +3,13 @@
  * the fake does not model (proration_behavior, payment_behavior, …) are accepted and ignored, so
  * production code needs no special case for it.
  */
-import { cancelNow, createCustomer, parseTrialDays, updateSubscription } from './billing';
+import {
+	cancelNow,
+	createCustomer,
+	parseTrialDays,
+	parseTrialEnd,
+	updateSubscription
+} from './billing';
 import { StripeApiError, badParam, missing, missingParam } from './errors';
 import { arr, obj, str, type FormObject } from './form';
 import { expand, newId, paginate, type StripeState } from './state';
@@ -148,6 +154,17 @@ route('POST', '/v1/checkout/sessions', (ctx, p) => {
 		str(data, 'trial_period_days'),
 		'subscription_data[trial_period_days]'
 	);
+	const trialEnd = parseTrialEnd(
+		str(data, 'trial_end'),
+		state.now(),
+		'subscription_data[trial_end]'
+	);
+	if (trialEnd !== null && trialDays !== null) {
+		throw badParam(
+			'subscription_data[trial_end]',
+			'Give either subscription_data[trial_end] or subscription_data[trial_period_days], not both.'
+		);
+	}
 	const reference = str(p, 'client_reference_id');
 	if (reference !== undefined && reference.length > 200) {
 		throw badParam('client_reference_id', 'client_reference_id may be at most 200 characters.');
@@ -175,7 +192,7 @@ route('POST', '/v1/checkout/sessions', (ctx, p) => {
 		currency: prices[0].currency,
 		amount_subtotal: subtotal,
 		// Nothing is due today when the subscription starts with a trial.
-		amount_total: trialDays ? 0 : subtotal,
+		amount_total: trialDays || trialEnd ? 0 : subtotal,
 		metadata: metadataParam(p) ?? {},
 		livemode: false
 	};
@@ -183,6 +200,7 @@ route('POST', '/v1/checkout/sessions', (ctx, p) => {
 	state.sessionExtras.set(id, {
 		lines,
 		trialDays,
+		trialEnd,
 		subscriptionMetadata: metadataParam(data) ?? {},
 		lastError: null
 	});

@@ -62,6 +62,29 @@ export function parseTrialDays(value: string | undefined, param: string): number
 	return days;
 }
 
+/**
+ * Checks `trial_end` given as a Unix time. Stripe's Checkout wants it at least 48 hours ahead
+ * (and within two years); the fake refuses the same, so the app meets the real rule.
+ */
+export function parseTrialEnd(
+	value: string | undefined,
+	now: number,
+	param: string
+): number | null {
+	if (value === undefined || value === '') return null;
+	const at = Number(value);
+	if (!Number.isInteger(at)) {
+		throw badParam(param, `${param} must be a Unix timestamp in seconds; got '${value}'.`);
+	}
+	if (at < now + 48 * 3600) {
+		throw badParam(param, `${param} must be at least 48 hours in the future; got ${value}.`);
+	}
+	if (at > now + MAX_TRIAL_DAYS * 86_400) {
+		throw badParam(param, `${param} must be within ${MAX_TRIAL_DAYS} days; got ${value}.`);
+	}
+	return at;
+}
+
 /** Outcome of paying on the stand-in checkout page. */
 export type CheckoutResult =
 	{ ok: true; redirectTo: string; events: StripeEvent[] } | { ok: false; message: string };
@@ -99,7 +122,7 @@ export function completeCheckout(
 	const { subscription, invoice } = createSubscription(state, customerId, extras);
 	Object.assign(session, {
 		status: 'complete',
-		payment_status: extras.trialDays ? 'no_payment_required' : 'paid',
+		payment_status: extras.trialDays || extras.trialEnd ? 'no_payment_required' : 'paid',
 		customer: customerId,
 		subscription: subscription.id,
 		invoice: invoice.id,
@@ -126,7 +149,7 @@ function createSubscription(
 	const id = newId('sub');
 	const first = state.prices.get(extras.lines[0].price);
 	if (!first) throw missingParam('price', extras.lines[0].price, 'line_items[0][price]');
-	const trialEnd = extras.trialDays ? now + extras.trialDays * 86_400 : null;
+	const trialEnd = extras.trialEnd ?? (extras.trialDays ? now + extras.trialDays * 86_400 : null);
 	const periodEnd = trialEnd ?? addInterval(now, first.recurring.interval);
 	const items: SubscriptionItem[] = extras.lines.map((line) => {
 		const price = state.prices.get(line.price);

@@ -86,8 +86,10 @@ function checkoutHtml(state: StripeState, id: string, error: string | null): str
 			return `<tr><td>${e(productName(state, price))}${line.quantity > 1 ? ` × ${line.quantity}` : ''}</td><td class="num">${e(money(price.unit_amount * line.quantity, price.currency))} per ${e(price.recurring.interval)}</td></tr>`;
 		})
 		.join('');
-	const trial = extras.trialDays
-		? `<p class="note">Includes a ${extras.trialDays}-day trial: nothing is charged today.</p>`
+	const trialEnd =
+		extras.trialEnd ?? (extras.trialDays ? state.now() + extras.trialDays * 86_400 : null);
+	const trial = trialEnd
+		? `<p class="note">Trial until ${e(new Date(trialEnd * 1000).toISOString().slice(0, 10))}: nothing is charged today; ${e(money(session.amount_subtotal, session.currency))} is charged then.</p>`
 		: `<p class="note">Due today: ${e(money(session.amount_total, session.currency))}.</p>`;
 	const needsEmail = !session.customer && !session.customer_email;
 	const body = `
@@ -101,7 +103,7 @@ ${error ? `<p class="error" role="alert">${e(error)}</p>` : ''}
 		<label>Expiry<input name="expiry" autocomplete="off" placeholder="MM/YY"></label>
 		<label>CVC<input name="cvc" autocomplete="off" placeholder="123"></label>
 	</div>
-	<button type="submit">${extras.trialDays ? 'Start trial' : 'Subscribe'}</button>
+	<button type="submit">${trialEnd ? 'Start trial' : 'Subscribe'}</button>
 </form>
 <p class="hint">Test cards: <code>${spaced(CARD_OK)}</code> pays, <code>${spaced(CARD_DECLINED)}</code> is declined. Expiry and CVC are not checked.</p>
 ${session.cancel_url ? `<p><a href="${e(session.cancel_url)}">Cancel and return to the app</a></p>` : ''}`;

@@ -38,6 +38,8 @@ export function newId(prefix: string, length = 24): string {
 export interface SessionExtras {
 	lines: Array<{ price: string; quantity: number }>;
 	trialDays: number | null;
+	/** `subscription_data[trial_end]`: the trial's end as a Unix time, instead of a length. */
+	trialEnd: number | null;
 	subscriptionMetadata: Record<string, string>;
 	/** Last card error shown on the page, so a reload still explains what happened. */
 	lastError: string | null;

@@ -20,6 +20,10 @@ import * as m0018 from './20261204090000_notify_board_changes';
 import * as m0019 from './20261212100000_add_reading_overrides';
 import * as m0020 from './20261212100100_link_recurring_findings';
 import * as m0021 from './20261212100200_create_setup_signoffs';
+import * as m1601 from './20261216000100_create_readbacks';
+import * as m1602 from './20261216000200_notify_board_readbacks';
+import * as m1603 from './20261216000300_add_extended_offsets_to_machines';
+import * as m20261217a from './20261217090000_add_reading_device_time';
 
 /**
  * The migrations every shop schema gets, in order. Schema-agnostic: they run with the search
@@ -47,5 +51,9 @@ export const shopMigrations: Record<string, Knex.Migration> = {
 	'20261204090000_notify_board_changes': m0018,
 	'20261212100000_add_reading_overrides': m0019,
 	'20261212100100_link_recurring_findings': m0020,
-	'20261212100200_create_setup_signoffs': m0021
+	'20261212100200_create_setup_signoffs': m0021,
+	'20261216000100_create_readbacks': m1601,
+	'20261216000200_notify_board_readbacks': m1602,
+	'20261216000300_add_extended_offsets_to_machines': m1603,
+	'20261217090000_add_reading_device_time': m20261217a
 };

@@ -31,6 +31,8 @@ export interface FleetMachine {
 	referenceVersion: number | null;
 	/** Values saved over a Stop and not yet replaced (who, what, why: the finding's words). */
 	overrides: { subject: string; message: string }[];
+	/** Registers in use by active setups: how many, not verified at the control, mismatched (issue 16). */
+	atControl: { inUse: number; unverified: number; mismatched: number };
 }
 
 export interface LastCheck {

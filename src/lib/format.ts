@@ -1,5 +1,6 @@
 /** Display helpers shared by pages (no server imports). Offsets are formatted by the engine. */
 import { CONVENTION_LABEL, formatLength, formatWithUnits, UNIT_LABEL } from '$lib/offsets';
+import { formatWhen } from './time';
 
 export { CONVENTION_LABEL, formatLength, formatWithUnits, UNIT_LABEL };
 
@@ -15,13 +16,10 @@ export function ageFrom(iso: string | null, now = Date.now()): string {
 	return `${Math.round(hours / 24)} days ago`;
 }
 
-/** Date and time as the shop floor reads it, e.g. "2 Dec 2026, 14:05". */
-export function when(iso: string): string {
-	return new Date(iso).toLocaleString('en-GB', {
-		day: 'numeric',
-		month: 'short',
-		year: 'numeric',
-		hour: '2-digit',
-		minute: '2-digit'
-	});
+/**
+ * Date and time as the shop floor reads it, e.g. "2 Dec 2026, 14:05", in the shop's time zone
+ * (`data.shop.timeZone` on every shop page). The zone is required: see $lib/time.
+ */
+export function when(iso: string, timeZone: string): string {
+	return formatWhen(iso, timeZone);
 }

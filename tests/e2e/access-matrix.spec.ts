@@ -20,6 +20,8 @@ interface ShopRoute {
 	actions?: string[];
 	/** Roles allowed to use the actions, when fewer than those who may read the page. */
 	actionsAllowed?: Who[];
+	/** What an allowed role's GET answers when not 200 (e.g. 404 for an unknown token). */
+	okStatus?: number;
 }
 
 /** Routes under a shop: the matrix applies. */
@@ -73,7 +75,7 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	'/shops/[shop]/setups/[setup]/programs': { allowed: ALL, actions: ['upload'] },
 	'/shops/[shop]/setups/[setup]/programs/[program]': {
 		allowed: ALL,
-		actions: ['upload', 'runNow']
+		actions: ['upload', 'runNow', 'recheck']
 	},
 	'/shops/[shop]/setups/[setup]/programs/[program]/text': { allowed: ALL },
 	'/shops/[shop]/setups/[setup]/programs/[program]/report': { allowed: ALL },
@@ -95,6 +97,12 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 		actions: ['preview', 'save']
 	},
 	'/shops/[shop]/machines/[machine]/history/[kind]/[register]': { allowed: ALL },
+	// Read-backs at the control: every role records them (like readings) and sees them.
+	'/shops/[shop]/machines/[machine]/readback': { allowed: ALL, actions: ['typed', 'file'] },
+	'/api/v1/shops/[shop]/machines/[machine]/readbacks': { allowed: ALL },
+	// At the machine (issue 17): label sheet and machine mode, for every member.
+	'/shops/[shop]/machines/[machine]/labels': { allowed: ALL },
+	'/shops/[shop]/machines/[machine]/machine-mode': { allowed: ALL },
 	'/api/v1/shops/[shop]/machines/[machine]/offsets': { allowed: ALL },
 	'/api/v1/shops/[shop]/machines/[machine]/readings': { allowed: ALL },
 	'/api/v1/shops/[shop]/setups': { allowed: ALL },
@@ -111,7 +119,24 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 		actionsAllowed: ['owner', 'admin', 'lead']
 	},
 	'/api/v1/shops/[shop]/fleet': { allowed: ALL },
-	'/api/v1/shops/[shop]/checks': { allowed: ALL }
+	'/api/v1/shops/[shop]/checks': { allowed: ALL },
+	// Issue 18: settings for owner and admin; ownership, export and deletion for the owner only.
+	'/shops/[shop]/settings': { allowed: ['owner', 'admin'], actions: ['default'] },
+	'/shops/[shop]/settings/transfer': { allowed: ['owner'], actions: ['default'] },
+	'/shops/[shop]/settings/export': { allowed: ['owner'], actions: ['default'] },
+	// The e-mailed download link: an unknown token is 404 even for the owner.
+	'/shops/[shop]/settings/export/[token]': { allowed: ['owner'], okStatus: 404 },
+	'/shops/[shop]/settings/delete': { allowed: ['owner'], actions: ['delete', 'restore'] },
+	'/shops/[shop]/audit/export': { allowed: ['owner', 'admin'] }
+};
+
+/** Form actions of pages already listed above, with fewer roles than the page (issue 18). */
+const EXTRA_ACTIONS: Record<string, ShopRoute> = {
+	'/shops/[shop]': {
+		allowed: ALL,
+		actions: ['dismissFirstSteps'],
+		actionsAllowed: ['owner', 'admin', 'lead']
+	}
 };
 
 /**
@@ -127,7 +152,8 @@ const PARAMS: Record<string, string> = {
 	'[program]': '1',
 	'[check]': '1',
 	'[kind]': 'tool',
-	'[register]': '2'
+	'[register]': '2',
+	'[token]': 'not-a-real-token-0123456789abcdef0123456'
 };
 function fill(id: string, shop: string): string {
 	let path = id.replace('[shop]', shop);
@@ -150,7 +176,9 @@ const OTHER_ROUTES: Record<string, { path: string; status: number }> = {
 	'/invitations/[token]': { path: '/invitations/not-a-token', status: 200 },
 	'/shops': { path: '/shops', status: 303 },
 	'/shops/new': { path: '/shops/new', status: 200 },
-	'/dev/mailbox': { path: '/dev/mailbox', status: 200 }
+	'/dev/mailbox': { path: '/dev/mailbox', status: 200 },
+	// Only for someone removed from that shop; a current member gets the plain 404.
+	'/access-ended/[slug]': { path: '/access-ended/fernhill-precision', status: 404 }
 };
 
 function routeIds(dir = 'src/routes'): string[] {
@@ -201,12 +229,16 @@ test('every route in src/routes has a line in the access matrix', () => {
 	expect(missing, 'routes without an access-matrix line').toEqual([]);
 });
 
-for (const [id, rule] of Object.entries(SHOP_ROUTES)) {
-	const path = fill(id, FERNHILL.slug);
+for (const [id, rule] of [
+	...Object.entries(SHOP_ROUTES),
+	...Object.entries(EXTRA_ACTIONS).map(([k, v]) => [`${k} `, v] as const)
+]) {
+	const path = fill(id.trim(), FERNHILL.slug);
 	test(`matrix: GET ${id}`, async () => {
 		for (const who of [...ROLES, 'outsider'] as Who[]) {
 			const res = await clients.get(who)!.get(path, { maxRedirects: 0 });
-			const expected = who === 'outsider' ? 404 : rule.allowed.includes(who) ? 200 : 403;
+			const expected =
+				who === 'outsider' ? 404 : rule.allowed.includes(who) ? (rule.okStatus ?? 200) : 403;
 			expect(res.status(), `${who} GET ${path}`).toBe(expected);
 		}
 	});
@@ -256,4 +288,17 @@ test('routes outside a shop answer as expected for a signed-in member', async ()
 		const res = await omar.get(path, { maxRedirects: 0 });
 		expect(res.status(), id).toBe(status);
 	}
+});
+
+test('queued readings (POST to the readings API): every role may send, outsiders 404, signed out 401', async ({
+	request
+}) => {
+	const path = `/api/v1/shops/${FERNHILL.slug}/machines/1/readings`;
+	for (const who of [...ROLES, 'outsider'] as Who[]) {
+		// A body that is not a reading: members get the refusal (400), nothing is recorded.
+		const res = await clients.get(who)!.post(path, { data: { kind: 'tool' } });
+		expect(res.status(), `${who} POST ${path}`).toBe(who === 'outsider' ? 404 : 400);
+	}
+	const anon = await request.post(path, { data: { kind: 'tool' } });
+	expect(anon.status()).toBe(401);
 });

@@ -67,6 +67,11 @@ test('the owner invites an operator, who accepts from the e-mail and sees only w
 	await expect(page.getByText('Role changed.')).toBeVisible();
 	expect((await p2.goto('/shops/fernhill-precision/members'))?.status()).toBe(200);
 	await row.getByRole('button', { name: /^Remove / }).click();
+	// Removal asks first, naming the person (issue 18).
+	await page
+		.getByTestId('confirm-remove')
+		.getByRole('button', { name: 'Remove Erin Example' })
+		.click();
 	await expect(page.getByTestId('members-table')).not.toContainText(invitee);
 	// Removal ends the person's sessions at once (session generation): back to the sign-in page.
 	await p2.goto('/shops/fernhill-precision');
@@ -100,7 +105,7 @@ test('sign-up creates a shop with its owner; bad input names the field and chang
 	await page.getByLabel('E-mail').fill('not-an-email');
 	await page.getByLabel('Password').fill('abc');
 	await page.getByLabel('Shop name').fill('Founders Mill Works');
-	await page.getByLabel('Shop address (optional)').fill('fernhill-precision');
+	await page.getByLabel('Web address of the shop (optional)').fill('fernhill-precision');
 	await page.getByRole('button', { name: 'Create the shop' }).click();
 	await expect(page.getByText(/not an e-mail address/)).toBeVisible();
 	await expect(page.getByText(/Password too short/)).toBeVisible();
@@ -108,14 +113,14 @@ test('sign-up creates a shop with its owner; bad input names the field and chang
 	await page.getByLabel('E-mail').fill(email);
 	await page.getByLabel('Password').fill('founders-pass-7');
 	await page.getByRole('button', { name: 'Create the shop' }).click();
-	await expect(page.getByText('The address "fernhill-precision" is taken')).toBeVisible();
+	await expect(page.getByText('The web address "fernhill-precision" is taken')).toBeVisible();
 
-	await page.getByLabel('Shop address (optional)').fill('');
+	await page.getByLabel('Web address of the shop (optional)').fill('');
 	await page.getByRole('button', { name: 'Create the shop' }).click();
 	await expect(page).toHaveURL(/\/shops\/founders-mill-works$/);
 	await expect(page.getByTestId('shop-switcher')).toContainText('Founders Mill Works');
 	await page.getByRole('link', { name: 'Audit log' }).click();
-	await expect(page.getByTestId('audit-table')).toContainText('shop.created');
+	await expect(page.getByTestId('audit-table')).toContainText('Shop created');
 });
 
 test('password reset from the e-mailed link; the same answer for an unknown e-mail', async ({

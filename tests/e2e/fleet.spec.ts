@@ -23,13 +23,15 @@ test('a lead sees Mill 1 flagged, checks now, acknowledges its finding and the b
 	await page.getByRole('link', { name: 'Fleet board' }).click();
 	await expect(page).toHaveURL(board);
 
-	// Mill 1's spare H6 was last touched off 37 days ago, past the 30-day limit for tools.
+	// Mill 1's H4 was keyed in at the control with two digits swapped (the demo's read-back,
+	// issue 16): a Stop, which outranks its spare H6 being past the 30-day limit for tools.
 	const mill1 = page.locator('[data-testid="fleet-row"][data-machine="Mill 1"]');
-	await expect(mill1).toHaveAttribute('data-health', 'stale');
-	const badge = mill1.locator('[data-status="stale"]');
-	await expect(badge).toHaveText('Stale');
+	await expect(mill1).toHaveAttribute('data-health', 'stop');
+	const badge = mill1.locator('td').first().locator('[data-status="stop"]');
+	await expect(badge).toHaveText('Stop');
 	await expect(badge.locator('svg')).toHaveCount(1);
-	await expect(mill1).toContainText('1 offset past the age limit');
+	await expect(mill1).toContainText('1 stop finding');
+	await expect(mill1.getByTestId('at-control')).toContainText('1 mismatched');
 	// Mill 2's block was re-set 3 days ago; its G54 and H1 were measured before that.
 	const mill2 = page.locator('[data-testid="fleet-row"][data-machine="Mill 2"]');
 	await expect(mill2).toHaveAttribute('data-health', 'stale');
@@ -56,9 +58,10 @@ test('a lead sees Mill 1 flagged, checks now, acknowledges its finding and the b
 	// Mill 1's open findings, from the board's count: the spare's length offset.
 	await page.goto(`${findings}?machine=1&status=open`);
 	await expect(page.getByRole('heading', { name: 'Findings — Mill 1' })).toBeVisible();
-	const item = page.getByTestId('finding').first();
+	const item = page.getByTestId('finding').filter({ hasText: 'H6 was last measured' });
 	await expect(item).toHaveAttribute('data-status', 'open');
 	await expect(item).toContainText('H6 was last measured 37 days ago');
+	const id = await item.getAttribute('data-finding-id');
 	// No comment, no acknowledgement: the reason is asked for.
 	await item.getByRole('button', { name: 'Acknowledge' }).click();
 	await expect(item.locator('.field-error')).toBeVisible();
@@ -67,7 +70,7 @@ test('a lead sees Mill 1 flagged, checks now, acknowledges its finding and the b
 		.fill('Spare, not in the pump housing job; re-touch before use');
 	await item.getByRole('button', { name: 'Acknowledge' }).click();
 	// Acknowledged findings leave the "open" list; show them all to see the history.
-	const id = await item.getAttribute('data-finding-id');
+	await expect(page.locator(`[data-testid="finding"][data-finding-id="${id}"]`)).toHaveCount(0);
 	await page.goto(`${findings}?machine=1&status=all`);
 	const acked = page.locator(`[data-testid="finding"][data-finding-id="${id}"]`);
 	await expect(acked.getByTestId('finding-status')).toHaveText('◐Acknowledged');
@@ -82,9 +85,9 @@ test('a lead sees Mill 1 flagged, checks now, acknowledges its finding and the b
 	// The owner finds it in the shop's audit log.
 	const owner = await signedInClient(FERNHILL.owner);
 	const audit = await (await owner.get(`/shops/${FERNHILL.slug}/audit`)).text();
-	expect(audit).toContain('finding.acknowledge');
+	expect(audit).toContain('Finding acknowledged');
 	expect(audit).toContain(`finding:${id}`);
-	expect(audit).toContain('check.requested');
+	expect(audit).toContain('Offset check started');
 	await owner.dispose();
 });
 

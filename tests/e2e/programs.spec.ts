@@ -34,7 +34,9 @@ async function openPumpHousingPrograms(page: Page) {
  * Mill 1 demo numbers (reference-touch, inch): G54 part top 2.8125 in above the reference, G55
  * 1.0630 in, tallest obstacle 3.125 in + 0.5 in margin → clearance height 3.625 in. Line 10
  * leaves the tip at 0.1 + 2.8125 = 2.9125 in, then line 11 rapids over to G55: low-traverse.
- * T2 is loaded at line 13 and moves in Z at line 15 without G43: no-length-comp.
+ * T2 is loaded at line 13 and moves in Z at line 15 without G43: no-length-comp; H1 is still
+ * in force, so T2's real tip ends 0.4711 in above the reference, below G55's part top (1.0630
+ * in), at rapid: rapid-into-part on the same line.
  */
 const FAST = [
 	'%',
@@ -79,7 +81,10 @@ test('an operator uploads a program to the Mill 1 setup, follows a finding to it
 
 	await expect(page.getByTestId('program-name')).toHaveText(name);
 	const findings = page.getByTestId('finding');
-	await expect(findings).toHaveCount(2);
+	await expect(findings).toHaveCount(3);
+	await expect(
+		page.locator('[data-testid="finding"][data-kind="rapid-into-part"]').getByTestId('finding-line')
+	).toHaveText('Line 15 →');
 	const low = page.locator('[data-testid="finding"][data-kind="low-traverse"]');
 	const noComp = page.locator('[data-testid="finding"][data-kind="no-length-comp"]');
 	await expect(low).toContainText('Stop');

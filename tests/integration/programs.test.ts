@@ -10,7 +10,9 @@ import { PROGRAM_MAX_BYTES } from '$lib/server/programs/file';
 import type { CheckInput } from '$lib/server/programs/input';
 import { versionResult } from '$lib/server/programs/load';
 import { buildReport } from '$lib/server/programs/report';
+import { recheckVersion } from '$lib/server/programs/recheck';
 import { processProgramCheck } from '$lib/server/programs/run';
+import { summarize } from '$lib/server/programs/summary';
 import { getVersionFile, listPrograms, readLines, uploadProgram } from '$lib/server/programs/store';
 import { createShopWithOwner } from '$lib/server/shops/create';
 import { getSetupDetail } from '$lib/server/setups/queries';
@@ -168,14 +170,17 @@ describe('upload', () => {
 		expect(r).toMatchObject({ ok: true, programId, version: 2, background: false });
 		if (!r.ok) return;
 		const c = await checkRow(r.checkId);
+		// Line 15: T2 moves with H1 still in force (no G43 H2): no-length-comp, and T2's real tip
+		// ends below G55's part top at rapid: rapid-into-part (docs/OFFSETS.md §13).
 		expect(where(c.result)).toEqual([
 			['low-traverse', 11, 'stop'],
-			['no-length-comp', 15, 'stop']
+			['no-length-comp', 15, 'stop'],
+			['rapid-into-part', 15, 'stop']
 		]);
-		expect(c.stops).toBe(2);
+		expect(c.stops).toBe(3);
 		const { versions } = await inShop((trx) => versionResult(trx, programId, null));
 		expect(versions.map((v) => [v.version, v.check?.stops])).toEqual([
-			[2, 2],
+			[2, 3],
 			[1, 0]
 		]);
 		// Both files kept.
@@ -200,11 +205,47 @@ describe('upload', () => {
 		});
 		expect(report.filename).toBe('program-check-o4471-pump-v2.md');
 		expect(report.text).toContain(createHash('sha256').update(text(BAD)).digest('hex'));
-		expect(report.text).toMatch(/STOP — 2 stop findings/);
+		expect(report.text).toMatch(/STOP — 3 stop findings/);
+		expect(report.text).toContain("- Checked as: ISO-style (from the machine's control style)");
 		expect(report.text).toMatch(/\*\*STOP\*\* · Rapid move below the clearance plane · line 11/);
 		expect(report.text).toContain('`G55 X-2. Y1.`');
 		expect(report.text).toMatch(/\| G54 \| 2\.8125 in \|/);
 		expect(report.text).toContain('Lift clear in Z before any move between fixtures.');
+	});
+
+	it('checks a version again in the other dialect: a new check row, same setup state, the old one kept', async () => {
+		const r = await inShop(async (trx) => {
+			const v = await versionResult(trx, programId, '2');
+			const before = v.detail!;
+			const again = await recheckVersion(trx, programId, v.version.id, 'rs274ngc', actor);
+			const after = await versionResult(trx, programId, '2');
+			const count = Number(
+				(await trx('program_checks').where({ version_id: v.version.id }).count({ n: '*' }))[0].n
+			);
+			return { before, again, after: after.detail!, count };
+		});
+		expect(r.again).toMatchObject({ ok: true, background: false });
+		expect(r.count).toBe(2);
+		expect(r.after.check.id).not.toBe(r.before.check.id);
+		// The test mill's control style is ISO-style; RS274NGC-style when chosen.
+		expect(summarize(r.before.input, r.before.result!).dialect).toEqual({
+			code: 'iso',
+			label: 'ISO-style',
+			from: 'machine'
+		});
+		expect(summarize(r.after.input, r.after.result!).dialect).toEqual({
+			code: 'rs274ngc',
+			label: 'RS274NGC-style',
+			from: 'chosen'
+		});
+		// Same offsets as the first check: only the dialect differs, and this program reads the
+		// same in both.
+		expect({ ...r.after.input.programSetup, dialect: undefined }).toEqual({
+			...r.before.input.programSetup,
+			dialect: undefined
+		});
+		expect(where(r.after.result!)).toEqual(where(r.before.result!));
+		expect(r.after.check.stops).toBe(3);
 	});
 
 	it('the text view reads a window of lines (LF, CRLF and lone CR all end a line)', async () => {
@@ -257,7 +298,8 @@ describe('large programs: the background processor', () => {
 		expect(done.result).toEqual(JSON.parse(JSON.stringify(inline)));
 		expect(where(done.result)).toEqual([
 			['low-traverse', 60_002, 'stop'],
-			['no-length-comp', 60_006, 'stop']
+			['no-length-comp', 60_006, 'stop'],
+			['rapid-into-part', 60_006, 'stop']
 		]);
 
 		// Idempotent: a second delivery of the job does nothing.

@@ -48,7 +48,7 @@ describe('session generation', () => {
 			.insert({ user_id: u.id, shop_id: shop.id, role: 'operator' })
 			.returning('id');
 		const before = await generation(email);
-		expect(await removeMember(knex, shop, Number(m.id), owner)).toEqual({ ok: true });
+		expect(await removeMember(knex, shop, Number(m.id), owner)).toMatchObject({ ok: true });
 		expect(await generation(email)).toBe(before + 1);
 		expect((await listMembers(knex, shop.id)).map((x) => x.email)).not.toContain(email);
 	});

@@ -13,6 +13,13 @@ import type { Closable } from '../index';
 import { processShopCheck } from './processor';
 import { withShop } from '$lib/server/db/tenant';
 
+/** Lock and stalled-job check timing from SHOP_CHECKS_LOCK_MS (BullMQ's defaults when unset). */
+function lockOptions(): { lockDuration?: number; stalledInterval?: number } {
+	const ms = Number(process.env.SHOP_CHECKS_LOCK_MS);
+	if (!Number.isFinite(ms) || ms <= 0) return {};
+	return { lockDuration: ms, stalledInterval: Math.max(500, Math.round(ms / 2)) };
+}
+
 /** How often the worker re-reads shops to keep one nightly scheduler per shop. */
 const SYNC_EVERY_MS = 10 * 60_000;
 
@@ -73,7 +80,13 @@ export async function start(): Promise<Closable[]> {
 		{
 			connection: workerConnection(),
 			prefix: QUEUE_PREFIX,
-			concurrency: Number(process.env.SHOP_CHECKS_CONCURRENCY ?? 2)
+			concurrency: Number(process.env.SHOP_CHECKS_CONCURRENCY ?? 2),
+			// Seen on a job as `processedBy`: which of several workers has it (npm run cluster).
+			name: process.env.WORKER_NAME || `worker-${process.pid}`,
+			// A worker that dies mid-job stops renewing its lock; after lockDuration another worker's
+			// stalled-job check takes the job over (idempotent, so the rerun is safe). BullMQ's 30 s
+			// default unless SHOP_CHECKS_LOCK_MS says otherwise (the cluster test uses a few seconds).
+			...lockOptions()
 		}
 	);
 	worker.on('failed', (job, err) => {

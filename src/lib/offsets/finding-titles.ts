@@ -28,6 +28,10 @@ export const FINDING_TITLE: Readonly<Record<FindingKind | AppFindingKind, string
 	'unknown-tool-offset': 'Tool length offset not in the table',
 	overtravel: 'Move beyond the Z travel',
 	'parse-error': 'Line the control cannot read',
+	'rapid-into-part': 'Rapid move down into the part',
+	'heights-unknown': 'Heights the check cannot follow',
+	'readback-mismatch': 'Control holds a different value',
+	unverified: 'Changed but not verified at the control',
 	override: 'Saved over a Stop (override)'
 };
 

@@ -27,14 +27,24 @@ export const PROGRAM_FINDING_KINDS = [
 	'unknown-work-offset',
 	'unknown-tool-offset',
 	'overtravel',
-	'parse-error'
+	'parse-error',
+	'rapid-into-part',
+	'heights-unknown'
 ] as const;
 
+/** Kinds from read-backs at the control (issue 16), made by the shop check and the read-back itself. */
+export const READBACK_FINDING_KINDS = ['readback-mismatch', 'unverified'] as const;
+
 /** Every finding kind. */
-export const FINDING_KINDS = [...TABLE_FINDING_KINDS, ...PROGRAM_FINDING_KINDS] as const;
+export const FINDING_KINDS = [
+	...TABLE_FINDING_KINDS,
+	...PROGRAM_FINDING_KINDS,
+	...READBACK_FINDING_KINDS
+] as const;
 
 export type TableFindingKind = (typeof TABLE_FINDING_KINDS)[number];
 export type ProgramFindingKind = (typeof PROGRAM_FINDING_KINDS)[number];
+export type ReadbackFindingKind = (typeof READBACK_FINDING_KINDS)[number];
 export type FindingKind = (typeof FINDING_KINDS)[number];
 
 /** `stop`: do not run until fixed. `caution`: look before running. */

@@ -23,7 +23,10 @@ export {
 	sortRegisters,
 	STANDARD_WORK_REGISTERS,
 	MAX_EXTENDED_REGISTER,
-	MAX_H_NUMBER
+	MAX_H_NUMBER,
+	EXTENDED_ADDRESS_FORMS,
+	registerForMachine,
+	type ExtendedAddressForm
 } from './registers';
 export {
 	CONVENTIONS,
@@ -62,6 +65,7 @@ export { DEFAULT_POLICY, resolvePolicy, type Policy } from './policy';
 export {
 	TABLE_FINDING_KINDS,
 	PROGRAM_FINDING_KINDS,
+	READBACK_FINDING_KINDS,
 	FINDING_KINDS,
 	findingKey,
 	subjectKey,
@@ -72,6 +76,7 @@ export {
 	type FindingKind,
 	type TableFindingKind,
 	type ProgramFindingKind,
+	type ReadbackFindingKind,
 	type FindingSubject,
 	type FindingStatus,
 	type Severity
@@ -89,6 +94,7 @@ export { gaugeStack } from './gauge-blocks';
 export { GAUGE_SETS, findGaugeSet, gaugeSetBlocks, type GaugeSet } from './gauge-sets';
 export {
 	checkProgram,
+	checkProgramStream,
 	createProgramChecker,
 	programSetupSchema,
 	REGISTER_STATES,
@@ -97,7 +103,14 @@ export {
 	type ProgramCheckResult,
 	type ProgramStats,
 	type ProgramSetup,
-	type RegisterState
+	type RegisterState,
+	DIALECTS,
+	createSubprogramCollector,
+	type Dialect,
+	type DialectFrom,
+	type ProgramProfile,
+	type ProfilePoint,
+	type SubprogramLibrary
 } from './program';
 export {
 	gateOffsets,
@@ -129,3 +142,47 @@ export {
 	findingTitle,
 	type AppFindingKind
 } from './finding-titles';
+export {
+	parseControlFile,
+	MAX_CONTROL_FILE_CHARS,
+	type ControlFile,
+	type NoPointFlag,
+	type OtherRegister,
+	type ReadbackSection
+} from './parse-load-program';
+export {
+	compareReadback,
+	registerLabel,
+	READBACK_CAUSES,
+	READBACK_CAUSE_TITLE,
+	type ReadbackCause,
+	type ReadbackComparison,
+	type ReadbackInput,
+	type ReadbackRow,
+	type ReadbackValues,
+	type OneSided
+} from './readback';
+export {
+	edgePosition,
+	centreFromEdges,
+	approachWords,
+	EDGE_AXES,
+	APPROACH_SIDES,
+	type EdgeAxis,
+	type ApproachSide,
+	type EdgeTouch,
+	type FeatureSide,
+	type CentreResult
+} from './edges';
+export {
+	proposeWear,
+	wearBeyondLimit,
+	effectiveValue,
+	DEFAULT_WEAR_LIMIT,
+	MEASURED_FEATURES,
+	type WearProposal,
+	type WearRegister,
+	type MeasuredFeature,
+	type CutterRegisterMode
+} from './wear';
+export { toolOffsetFromPresetter } from './presetter';

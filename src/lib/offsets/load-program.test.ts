@@ -65,7 +65,7 @@ describe('loadProgram', () => {
 			'M30',
 			'%'
 		]);
-		expect(text).toMatch(/LENGTH WEAR IS NOT CHANGED/);
+		expect(text).toMatch(/WEAR VALUES ARE LEFT AS THEY ARE/);
 	});
 
 	test('cautions are written as comments', () => {
@@ -102,7 +102,7 @@ describe('loadProgram', () => {
 				field: 'table.work.G54.1 P3',
 				value: 1
 			});
-			expect((e as OffsetInputError).issues[0].message).toMatch(/ISO-style/);
+			expect((e as OffsetInputError).issues[0].message).toMatch(/G10 L10 length form/);
 		}
 	});
 
@@ -114,10 +114,27 @@ describe('loadProgram', () => {
 		expect(() => loadProgram({ ...MILL1, zTravel: Number.NaN }, RT)).toThrow(/machine.zTravel/);
 	});
 
+	test('extended work offsets up to the number the machine has', () => {
+		// ISO-style mill control manual §1.2.10 [secondary]: G10 L20 Pn = G54.1 Pn; how many a
+		// control has is the machine builder's choice, so it is a machine setting here.
+		const table: OffsetTable = {
+			convention: 'gauge-length',
+			units: 'mm',
+			work: { 'G54.1 P7': -345.5 },
+			tools: {}
+		};
+		expect(loadProgram({ ...MILL3, extendedWorkOffsets: 7 }, table)).toMatch(
+			/G10 L20 P7 Z-345\.500/
+		);
+		expect(() => loadProgram({ ...MILL3, extendedWorkOffsets: 6 }, table)).toThrow(
+			/table.work.G54.1 P7: is beyond the 6 extended work offsets Mill 3 is set to have/
+		);
+	});
+
 	test('style labels in our own words', () => {
 		expect(CONTROL_STYLE_LABEL).toEqual({
-			rs274ngc: 'RS274NGC-style (G10 L1)',
-			iso: 'ISO-style (G10 L10)'
+			rs274ngc: 'Tool table, G10 L1 (P tool, Z length)',
+			iso: 'Length registers, G10 L10 (P H number, R length)'
 		});
 	});
 });

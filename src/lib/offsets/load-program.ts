@@ -2,11 +2,12 @@
  * The load program: a G10 program that writes a machine's Z offsets so nobody types them by
  * hand. Work offsets by `G10 L2 P1–P6` (G54–G59; NISTIR 6556 §3.5.5: G10 L2 sets the
  * system's origin in machine coordinates and only the axes given change — we give Z only).
- * Tool lengths in the machine's control style, named in our own words:
- * - 'rs274ngc', shown as "RS274NGC-style (G10 L1)": `G10 L1 P<tool> Z<length>`;
+ * Tool lengths in the machine's control style, labelled in our own words by the G10 form:
+ * - 'rs274ngc', shown as "Tool table, G10 L1 (P tool, Z length)": `G10 L1 P<tool> Z<length>`;
  *   no G54.1 P registers (its L2 P7–P9 are G59.1–G59.3), so a table using them is refused.
- * - 'iso', shown as "ISO-style (G10 L10)": `G10 L10 P<H> R<length>` (length geometry),
- *   and `G10 L20 P<n> Z…` for G54.1 Pn. Under G91 these add, so we always write G90.
+ * - 'iso', shown as "Length registers, G10 L10 (P H number, R length)": `G10 L10 P<H> R<length>`
+ *   (length geometry), and `G10 L20 P<n> Z…` for extended work offset n, up to the number the
+ *   machine says it has. Under G91 these add, so we always write G90.
  */
 import { OffsetInputError, type OffsetIssue } from './errors';
 import { formatLength } from './format';
@@ -32,8 +33,8 @@ import type { z } from 'zod';
 
 /** Labels for the two control styles, for pickers and the program header. */
 export const CONTROL_STYLE_LABEL: Readonly<Record<ControlStyle, string>> = {
-	rs274ngc: 'RS274NGC-style (G10 L1)',
-	iso: 'ISO-style (G10 L10)'
+	rs274ngc: 'Tool table, G10 L1 (P tool, Z length)',
+	iso: 'Length registers, G10 L10 (P H number, R length)'
 };
 
 /** The cautions written at the top of every load program (our own words). */
@@ -127,7 +128,20 @@ export function loadProgram(
 			issues.push({
 				field: `table.work.${register}`,
 				value,
-				message: `cannot be written for an ${CONTROL_STYLE_LABEL[style]} control: it has no G54.1 P registers (its G10 L2 P7–P9 are G59.1–G59.3). Use G54–G59 or set the machine to ISO-style.`
+				message: `cannot be written for an ${CONTROL_STYLE_LABEL[style]} control: it has no G54.1 P registers (its G10 L2 P7–P9 are G59.1–G59.3). Use G54–G59 or set the machine to the G10 L10 length form.`
+			});
+			continue;
+		}
+		const extended = extendedNumber(register);
+		if (
+			extended !== null &&
+			m.extendedWorkOffsets !== undefined &&
+			extended > m.extendedWorkOffsets
+		) {
+			issues.push({
+				field: `table.work.${register}`,
+				value,
+				message: `is beyond the ${m.extendedWorkOffsets} extended work offsets ${machineName(m)} is set to have`
 			});
 			continue;
 		}
@@ -160,14 +174,15 @@ export function loadProgram(
 	if (framed) lines.push('%');
 	if (o.programNumber !== undefined) lines.push(`O${String(o.programNumber).padStart(4, '0')}`);
 	lines.push(`(${commentText(`DATUMKEEP LOAD PROGRAM ${o.title ?? m.name ?? ''}`)})`);
-	lines.push(`(STYLE ${style === 'iso' ? 'ISO' : 'RS274NGC'})`);
+	lines.push(`(LENGTHS AS ${style === 'iso' ? 'G10 L10 P-H R-LENGTH' : 'G10 L1 P-TOOL Z-LENGTH'})`);
 	lines.push(`(CONVENTION ${t.convention.toUpperCase()})`);
 	if (t.convention === 'master-tool' && t.masterTool !== undefined)
 		lines.push(`(MASTER TOOL H${t.masterTool})`);
 	if (converted)
 		lines.push(`(VALUES CONVERTED FROM ${table.units.toUpperCase()} TO ${m.units.toUpperCase()})`);
 	for (const c of LOAD_PROGRAM_CAUTIONS) lines.push(`(${c})`);
-	if (style === 'iso') lines.push('(LENGTH WEAR IS NOT CHANGED - CHECK IT IS ZERO OR STILL RIGHT)');
+	if (style === 'iso')
+		lines.push('(WEAR VALUES ARE LEFT AS THEY ARE - CONFIRM EACH ONE ON THE CONTROL)');
 	if (withheld.length > 0) {
 		lines.push('(WITHHELD - NOT WRITTEN, THE CONTROL KEEPS ITS OLD VALUE:)');
 		for (const w of withheld) {

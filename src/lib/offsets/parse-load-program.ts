@@ -1,15 +1,28 @@
 /**
- * Reads a load program back into a table, so what was written can be checked:
- * parseLoadProgram(loadProgram(m, t)) equals t for a table at the machine's resolution.
- * It reads only what loadProgram writes (plus free spacing and comments) and refuses anything
- * else with the line number, rather than guess what a control would do.
+ * One reader for G10 offset files, in two modes:
+ * - `parseLoadProgram`: reads back a load program, so what was written can be checked:
+ *   parseLoadProgram(loadProgram(m, t)) equals t for a table at the machine's resolution. It
+ *   reads only what loadProgram writes (plus free spacing and comments) and refuses anything
+ *   else with the line number, rather than guess what a control would do.
+ * - `parseControlFile`: reads the offset file a control saves (a read-back). It reads the same
+ *   forms and the usual variants around them (X/Y words, wear, extended work offsets, N and O
+ *   numbers, no G90, values without a decimal point), reads each value as the machine's control
+ *   style would, flags every value written without a decimal point, and lists what it could not
+ *   read instead of refusing the whole file.
  */
 import { CONVENTIONS, type Convention } from './conventions';
 import { OffsetInputError, type OffsetIssue } from './errors';
 import { canonicalH, STANDARD_WORK_REGISTERS, MAX_EXTENDED_REGISTER } from './registers';
 import { normalizeTable, parseMachine } from './table';
 import type { ControlStyle, Machine, OffsetTable } from './types';
-import type { Units } from './units';
+import {
+	DEFAULT_RESOLUTION,
+	fromIncrements,
+	resolutionFor,
+	roundToResolution,
+	toUnits,
+	type Units
+} from './units';
 
 interface Word {
 	letter: string;
@@ -29,99 +42,225 @@ function words(code: string): Word[] | null {
 	return end === compact.length ? out : null;
 }
 
-/**
- * Parses a load program into an OffsetTable. Units come from G20/G21; the convention and
- * master tool from the program's own comments, else from `machine`; the style from the G10
- * forms used (L1 → RS274NGC-style, L10/L20 → ISO-style), checked against `machine` if given.
- * @throws OffsetInputError naming the line (`line 12`) and why
- */
-export function parseLoadProgram(text: string, machine?: Machine): OffsetTable {
-	if (typeof text !== 'string')
-		throw OffsetInputError.of('text', text, 'must be the text of a load program');
-	const m = machine === undefined ? undefined : parseMachine(machine);
-	const issues: OffsetIssue[] = [];
-	let units: Units | undefined;
-	let convention: Convention | undefined;
-	let masterTool: string | undefined;
-	let style: ControlStyle | undefined = m?.controlStyle;
-	let styleFromMachine = m?.controlStyle !== undefined;
-	let absolute = false;
-	const work: Record<string, number> = {};
-	const tools: Record<string, number> = {};
+/** Which register a value of a control file belongs to. `wear` holds length wear by H number. */
+export type ReadbackSection = 'work' | 'tools' | 'wear';
+
+/** A value the file wrote without a decimal point, and how the other convention would read it. */
+export interface NoPointFlag {
+	section: ReadbackSection;
+	/** Canonical register: "G54", "G54.1 P3", or the H number ("3"). */
+	register: string;
+	line: number;
+	/** As written, e.g. "-14205". */
+	text: string;
+	/** As this machine's control style reads it (machine units). */
+	value: number;
+	/** As the other convention would read it (machine units). */
+	otherReading: number;
+	/** 'increments' (ISO-style default) or 'whole units' (RS274NGC-style). */
+	readAs: 'increments' | 'whole units';
+}
+
+/** A register the file sets that Datumkeep does not keep (G59.1, P0, G54.1 P beyond the range). */
+export interface OtherRegister {
+	line: number;
+	label: string;
+	value: number;
+}
+
+/** What a control's offset file holds, in the machine's units. */
+export interface ControlFile {
+	/** Units the file was written in (G20/G21, else the machine's). */
+	fileUnits: Units;
+	/** Units of every value below: the machine's. */
+	units: Units;
+	work: Record<string, number>;
+	tools: Record<string, number>;
+	/** Length wear by H number (ISO-style G10 L11), where the file has it. */
+	wear: Record<string, number>;
+	noPoint: NoPointFlag[];
+	other: OtherRegister[];
+	/** File-level remarks in plain words (assumed units, axes left out…). */
+	notes: string[];
+	/** Lines that could not be read, with why; the rest of the file was still read. */
+	skipped: OffsetIssue[];
+}
+
+type Mode = 'load-program' | 'control-file';
+
+interface ReadState {
+	units?: Units;
+	convention?: Convention;
+	masterTool?: string;
+	style?: ControlStyle;
+	work: Record<string, number>;
+	tools: Record<string, number>;
+	wear: Record<string, number>;
+	/** Value text and line per register, kept to flag values without a decimal point at the end. */
+	raw: { section: ReadbackSection; register: string; text: string; line: number }[];
+	other: OtherRegister[];
+	notes: Set<string>;
+	issues: OffsetIssue[];
+}
+
+const EXTENDED_LABEL = (p: number) => `G54.1 P${p}`;
+
+/** The shared line reader behind both entry points. */
+function readG10(text: string, mode: Mode, m: Machine | undefined): ReadState {
+	const lenient = mode === 'control-file';
+	const s: ReadState = {
+		style: m?.controlStyle ?? (lenient ? 'rs274ngc' : undefined),
+		work: {},
+		tools: {},
+		wear: {},
+		raw: [],
+		other: [],
+		notes: new Set(),
+		issues: []
+	};
+	let styleFromMachine = m?.controlStyle !== undefined || lenient;
+	let absolute = lenient; // a saved offset file seldom says G90; controls start in G90
 	const fail = (n: number, value: unknown, message: string) =>
-		issues.push({ field: `line ${n}`, value, message });
-	const setStyle = (n: number, s: ControlStyle, line: string) => {
-		if (style !== undefined && style !== s) {
+		s.issues.push({ field: `line ${n}`, value, message });
+	const setStyle = (n: number, st: ControlStyle, line: string) => {
+		if (s.style !== undefined && s.style !== st) {
 			fail(
 				n,
 				line,
 				styleFromMachine
-					? `is ${s === 'iso' ? 'ISO' : 'RS274NGC'}-style, but the machine is set to the other style`
+					? `is ${st === 'iso' ? 'ISO' : 'RS274NGC'}-style, but the machine is set to the other style`
 					: 'mixes RS274NGC-style and ISO-style G10 forms'
 			);
 			return false;
 		}
-		style = s;
+		s.style = st;
 		styleFromMachine = false;
 		return true;
 	};
 
-	text.split(/\r?\n/).forEach((raw, index) => {
+	text.split(/\r\n|\r|\n/).forEach((raw, index) => {
 		const n = index + 1;
 		const comments = [...raw.matchAll(/\(([^)]*)\)/g)].map((c) => c[1].trim().toUpperCase());
 		for (const c of comments) {
 			const conv = /^CONVENTION\s+([A-Z-]+)$/.exec(c);
 			if (conv) {
 				const value = conv[1].toLowerCase() as Convention;
-				if (CONVENTIONS.includes(value)) convention = value;
-				else fail(n, conv[1], 'names an unknown convention');
+				if (CONVENTIONS.includes(value)) s.convention = value;
+				else if (!lenient) fail(n, conv[1], 'names an unknown convention');
 			}
 			const master = /^MASTER TOOL\s+H?(\d+)$/.exec(c);
-			if (master) masterTool = canonicalH(master[1]) ?? undefined;
+			if (master) s.masterTool = canonicalH(master[1]) ?? undefined;
 		}
-		const code = raw
+		let code = raw
 			.replace(/\([^)]*\)/g, '')
 			.replace(/;.*$/, '')
 			.trim();
 		if (code === '' || code === '%') return;
 		if (/^O\d+$/i.test(code)) return;
+		if (lenient) {
+			// Block delete, sequence numbers, program numbers and a closing % are no offsets.
+			code = code
+				.replace(/^\//, '')
+				.replace(/^O\d+\s*/i, '')
+				.replace(/^N\d+\s*/i, '')
+				.replace(/%\s*$/, '')
+				.trim();
+			if (code === '') return;
+		}
 		const ws = words(code);
 		if (ws === null) return fail(n, raw, 'cannot be read as G-code words');
-		const g = ws.filter((w) => w.letter === 'G').map((w) => w.text);
-		if (g.includes('10')) {
-			if (!units) return fail(n, raw, 'comes before G20 or G21: the unit of the value is unknown');
+		const g = ws.filter((w) => w.letter === 'G').map((w) => Number(w.text));
+		if (g.includes(10)) {
+			if (lenient) {
+				for (const w of ws) {
+					if (w.letter !== 'G') continue;
+					const code = Number(w.text);
+					if (code === 90) absolute = true;
+					else if (code === 91) absolute = false;
+					else if (code === 20 || code === 21) {
+						const u: Units = code === 20 ? 'inch' : 'mm';
+						if (s.units !== undefined && s.units !== u)
+							return fail(n, raw, 'changes units part way through the file');
+						s.units = u;
+					}
+				}
+			}
+			if (!s.units) {
+				if (!lenient)
+					return fail(n, raw, 'comes before G20 or G21: the unit of the value is unknown');
+				s.units = m!.units;
+				s.notes.add(
+					`The file does not say G20 or G21: its values were read in the machine's units (${m!.units}).`
+				);
+			}
 			if (!absolute)
 				return fail(
 					n,
 					raw,
-					'comes before G90: under G91 an ISO-style G10 adds to the offset instead of replacing it'
+					lenient
+						? 'is under G91: the value would be added to the offset, so what the register holds cannot be read from it'
+						: 'comes before G90: under G91 an ISO-style G10 adds to the offset instead of replacing it'
 				);
 			const l = ws.find((w) => w.letter === 'L')?.text;
 			const pText = ws.find((w) => w.letter === 'P')?.text;
 			const p = pText === undefined ? NaN : Number(pText);
-			const valueWord = ws.find((w) => w.letter === 'Z' || w.letter === 'R');
-			if (!valueWord) return fail(n, raw, 'has no Z or R value');
-			if (!valueWord.text.includes('.'))
+			if (!Number.isInteger(p)) return fail(n, pText, 'P must be a whole number');
+			const zWord = ws.find((w) => w.letter === 'Z');
+			const rWord = ws.find((w) => w.letter === 'R');
+			if (lenient) {
+				const others = ws.filter((w) => !'GLPZR'.includes(w.letter));
+				if (others.length > 0)
+					s.notes.add(
+						'Only Z and tool lengths are compared: X, Y and other axes in the file are left out.'
+					);
+			}
+			const valueWord = lenient
+				? l === '2' || l === '20' || l === '1'
+					? zWord
+					: rWord
+				: (zWord ?? rWord);
+			if (!valueWord) {
+				if (lenient) return; // e.g. G10 L2 P1 X0 Y0: nothing for Z
+				return fail(n, raw, 'has no Z or R value');
+			}
+			if (!lenient && !valueWord.text.includes('.'))
 				return fail(
 					n,
 					valueWord.text,
 					'has no decimal point; some controls read such a number as increments, so load programs always write one'
 				);
-			const value = Number(valueWord.text);
-			if (!Number.isInteger(p)) return fail(n, pText, 'P must be a whole number');
+			const value = readValue(valueWord.text, s.style ?? 'rs274ngc', s.units, m);
+			const put = (section: ReadbackSection, register: string, label: string) => {
+				const target = s[section];
+				if (register in target) {
+					if (!lenient) return fail(n, raw, `sets ${label} a second time`);
+					s.notes.add(`${label} is set more than once in the file: the last value counts.`);
+					s.raw = s.raw.filter((r) => !(r.section === section && r.register === register));
+				}
+				target[register] = value;
+				s.raw.push({ section, register, text: valueWord.text, line: n });
+			};
 			const setWork = (register: string) => {
 				if (valueWord.letter !== 'Z') return fail(n, raw, 'a work offset is written with Z');
-				if (register in work) return fail(n, raw, `sets ${register} a second time`);
-				work[register] = value;
+				put('work', register, register);
 			};
-			const setTool = () => {
+			const setTool = (section: 'tools' | 'wear') => {
 				const h = canonicalH(String(p));
 				if (h === null) return fail(n, p, 'is not a valid H number (1–9999)');
-				if (h in tools) return fail(n, raw, `sets H${h} a second time`);
-				tools[h] = value;
+				put(section, h, section === 'wear' ? `H${h} wear` : `H${h}`);
 			};
 			if (l === '2') {
 				if (p >= 1 && p <= 6) return setWork(STANDARD_WORK_REGISTERS[p - 1]);
+				if (lenient) {
+					const label =
+						p === 0
+							? 'G10 L2 P0 (the active or common work offset)'
+							: s.style === 'rs274ngc' && p >= 7 && p <= 9
+								? `G59.${p - 6}`
+								: `G10 L2 P${p}`;
+					s.other.push({ line: n, label, value });
+					return;
+				}
 				return fail(
 					n,
 					raw,
@@ -132,40 +271,107 @@ export function parseLoadProgram(text: string, machine?: Machine): OffsetTable {
 				if (!setStyle(n, 'rs274ngc', raw)) return;
 				if (valueWord.letter !== 'Z')
 					return fail(n, raw, 'RS274NGC-style G10 L1 writes the length with Z');
-				return setTool();
+				return setTool('tools');
 			}
+			if (lenient && s.style === 'rs274ngc' && (l === '10' || l === '11' || l === '20'))
+				return fail(
+					n,
+					raw,
+					`on an RS274NGC-style control G10 L${l} sets an offset from where the machine stands, not a stored value, so it cannot be read back`
+				);
 			if (l === '10') {
 				if (!setStyle(n, 'iso', raw)) return;
 				if (valueWord.letter !== 'R')
 					return fail(n, raw, 'ISO-style G10 L10 writes the length with R');
-				return setTool();
+				return setTool('tools');
+			}
+			if (lenient && l === '11') return setTool('wear');
+			if (lenient && (l === '12' || l === '13')) {
+				s.notes.add('Diameter registers (G10 L12 and L13) are not compared.');
+				return;
 			}
 			if (l === '20') {
 				if (!setStyle(n, 'iso', raw)) return;
-				if (p < 1 || p > MAX_EXTENDED_REGISTER)
+				const has = lenient
+					? (m?.extendedWorkOffsets ?? MAX_EXTENDED_REGISTER)
+					: MAX_EXTENDED_REGISTER;
+				if (p < 1 || p > has) {
+					if (lenient) {
+						s.other.push({
+							line: n,
+							label: `${m?.extendedAddress ?? 'G54.1 P'}${p} (the machine is set to ${has} extended work offsets)`,
+							value
+						});
+						return;
+					}
 					return fail(n, p, `G10 L20 P must be 1–${MAX_EXTENDED_REGISTER} (G54.1 P1–P48)`);
-				return setWork(`G54.1 P${p}`);
+				}
+				return setWork(EXTENDED_LABEL(p));
 			}
-			return fail(n, raw, `G10 L${l ?? '?'} is not a form a load program uses`);
+			return fail(
+				n,
+				raw,
+				`G10 L${l ?? '?'} is not a form ${lenient ? 'of offset file Datumkeep reads' : 'a load program uses'}`
+			);
 		}
 		for (const w of ws) {
 			if (w.letter === 'G' && (w.text === '20' || w.text === '21')) {
 				const u: Units = w.text === '20' ? 'inch' : 'mm';
-				if (units !== undefined && units !== u)
+				if (s.units !== undefined && s.units !== u)
 					return fail(n, raw, 'changes units part way through');
-				units = u;
-			} else if (w.letter === 'G' && w.text === '90') absolute = true;
-			else if (w.letter === 'G' && w.text === '91')
-				return fail(
-					n,
-					raw,
-					'G91 would make ISO-style G10 add to offsets; load programs run in G90'
-				);
-			else if (w.letter === 'M' && (w.text === '30' || w.text === '2')) continue;
+				s.units = u;
+			} else if (w.letter === 'G' && Number(w.text) === 90) absolute = true;
+			else if (w.letter === 'G' && Number(w.text) === 91) {
+				if (lenient) absolute = false;
+				else
+					return fail(
+						n,
+						raw,
+						'G91 would make ISO-style G10 add to offsets; load programs run in G90'
+					);
+			} else if (w.letter === 'M' && ['30', '2', '02', '99'].includes(w.text)) continue;
+			else if (lenient && (w.letter === 'N' || w.letter === 'O')) continue;
+			else if (lenient) return fail(n, raw, `${w.letter}${w.text} is not an offset: line left out`);
 			else return fail(n, raw, `${w.letter}${w.text} is not part of a load program`);
 		}
 	});
+	return s;
+}
 
+/**
+ * A value as the control reads it. With a decimal point: as written. Without one, by the
+ * control style: ISO-style controls in their usual setting read it as a count of least input
+ * increments (Z-14205 = -1.4205 in at 0.0001 in, -14.205 mm at 0.001 mm); RS274NGC-style
+ * controls read every number as written, so Z-14205 is -14205 (NIST RS274NGC v3 number syntax).
+ */
+function readValue(
+	text: string,
+	style: ControlStyle,
+	units: Units,
+	m: Machine | undefined
+): number {
+	if (text.includes('.')) return Number(text);
+	return style === 'iso' ? fromIncrements(Number(text), incrementFor(units, m)) : Number(text);
+}
+
+function incrementFor(units: Units, m: Machine | undefined): number {
+	return m && m.units === units ? resolutionFor(units, m.resolution) : DEFAULT_RESOLUTION[units];
+}
+
+/**
+ * Parses a load program into an OffsetTable. Units come from G20/G21; the convention and
+ * master tool from the program's own comments, else from `machine`; the style from the G10
+ * forms used (L1 → RS274NGC-style, L10/L20 → ISO-style), checked against `machine` if given.
+ * @throws OffsetInputError naming the line (`line 12`) and why
+ */
+export function parseLoadProgram(text: string, machine?: Machine): OffsetTable {
+	if (typeof text !== 'string')
+		throw OffsetInputError.of('text', text, 'must be the text of a load program');
+	const m = machine === undefined ? undefined : parseMachine(machine);
+	const s = readG10(text, 'load-program', m);
+	const issues = s.issues;
+	const { units } = s;
+	let { convention, masterTool } = s;
 	if (!units && issues.length === 0)
 		issues.push({
 			field: 'text',
@@ -195,7 +401,84 @@ export function parseLoadProgram(text: string, machine?: Machine): OffsetTable {
 		});
 	}
 	if (issues.length > 0) throw new OffsetInputError(issues);
-	const table: OffsetTable = { convention: convention!, units: units!, work, tools };
+	const table: OffsetTable = {
+		convention: convention!,
+		units: units!,
+		work: s.work,
+		tools: s.tools
+	};
 	if (masterTool !== undefined && convention === 'master-tool') table.masterTool = masterTool;
 	return normalizeTable(table, 'program');
+}
+
+/** Largest control file we read (a full table of 9999 H numbers is well under this). */
+export const MAX_CONTROL_FILE_CHARS = 2_000_000;
+
+/**
+ * Reads the offset file a control saved, as `machine`'s control reads it (its style decides
+ * what a value without a decimal point means, its increment what one increment is). Values come
+ * back in the machine's units, rounded to its increment; a file in the other unit is converted.
+ * Lines it cannot read are listed in `skipped`, not fatal.
+ * @throws OffsetInputError when the input is not text, too long, or holds no offset at all
+ */
+export function parseControlFile(text: string, machine: Machine): ControlFile {
+	if (typeof text !== 'string')
+		throw OffsetInputError.of('file', text, 'must be the text of an offset file');
+	if (text.length > MAX_CONTROL_FILE_CHARS)
+		throw OffsetInputError.of(
+			'file',
+			`${text.length} characters`,
+			`is larger than an offset file can be (${MAX_CONTROL_FILE_CHARS} characters at most)`
+		);
+	const m = parseMachine(machine);
+	const s = readG10(text, 'control-file', m);
+	const fileUnits = s.units ?? m.units;
+	const resolution = resolutionFor(m.units, m.resolution);
+	const toMachine = (v: number) =>
+		fileUnits === m.units
+			? roundToResolution(v, resolution)
+			: toUnits(v, fileUnits, m.units, resolution);
+	const convert = (r: Record<string, number>) =>
+		Object.fromEntries(Object.entries(r).map(([k, v]) => [k, toMachine(v)]));
+	const style = s.style ?? 'rs274ngc';
+	const noPoint: NoPointFlag[] = s.raw
+		.filter((r) => !r.text.includes('.'))
+		.map((r) => {
+			const whole = Number(r.text);
+			const increments = fromIncrements(whole, incrementFor(fileUnits, m));
+			return {
+				section: r.section,
+				register: r.register,
+				line: r.line,
+				text: r.text,
+				value: toMachine(style === 'iso' ? increments : whole),
+				otherReading: toMachine(style === 'iso' ? whole : increments),
+				readAs: style === 'iso' ? 'increments' : 'whole units'
+			};
+		});
+	const found = Object.keys(s.work).length + Object.keys(s.tools).length;
+	const wearCount = Object.keys(s.wear).length;
+	if (found + wearCount + s.other.length === 0) {
+		throw new OffsetInputError(
+			s.issues.length > 0
+				? s.issues
+				: [{ field: 'file', value: undefined, message: 'holds no G10 work or tool offset' }]
+		);
+	}
+	const notes = [...s.notes];
+	if (fileUnits !== m.units)
+		notes.push(
+			`The file is in ${fileUnits} and the machine works in ${m.units}: values were converted exactly (1 in = 25.4 mm).`
+		);
+	return {
+		fileUnits,
+		units: m.units,
+		work: convert(s.work),
+		tools: convert(s.tools),
+		wear: convert(s.wear),
+		noPoint,
+		other: s.other.map((o) => ({ ...o, value: toMachine(o.value) })),
+		notes,
+		skipped: s.issues
+	};
 }

@@ -68,3 +68,19 @@ export function extendedNumber(register: WorkRegister): number | null {
 	const m = /^G54\.1 P(\d+)$/.exec(register);
 	return m ? Number(m[1]) : null;
 }
+
+/** How a control's programs address extended work offsets: `G54.1 P3` or `G54 P3`. */
+export const EXTENDED_ADDRESS_FORMS = ['G54.1 P', 'G54 P'] as const;
+export type ExtendedAddressForm = (typeof EXTENDED_ADDRESS_FORMS)[number];
+
+/**
+ * A work register as the machine's own programs write it: "G54.1 P3" stays, or becomes
+ * "G54 P3" on a machine that addresses extended offsets that way. Stored keys never change.
+ */
+export function registerForMachine(
+	register: WorkRegister,
+	form: ExtendedAddressForm = 'G54.1 P'
+): string {
+	const n = extendedNumber(register);
+	return n === null ? register : `${form}${n}`;
+}

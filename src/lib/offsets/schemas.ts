@@ -6,7 +6,14 @@
  */
 import { z } from 'zod';
 import { CONVENTIONS } from './conventions';
-import { canonicalH, canonicalRegister, H_RULE, REGISTER_RULE } from './registers';
+import {
+	canonicalH,
+	canonicalRegister,
+	EXTENDED_ADDRESS_FORMS,
+	H_RULE,
+	MAX_EXTENDED_REGISTER,
+	REGISTER_RULE
+} from './registers';
 import { UNITS } from './units';
 
 /** inch | mm */
@@ -103,7 +110,11 @@ export const machineSchema = z.object({
 	convention: conventionSchema.optional(),
 	/** Default 'rs274ngc'. */
 	controlStyle: controlStyleSchema.optional(),
-	masterTool: hNumberSchema.optional()
+	masterTool: hNumberSchema.optional(),
+	/** How many extended work offsets (G54.1 P1…Pn) the control has; when absent, not limited. */
+	extendedWorkOffsets: z.number().int().min(0).max(MAX_EXTENDED_REGISTER).optional(),
+	/** How its programs address them: `G54.1 P3` (default) or `G54 P3`. */
+	extendedAddress: z.enum(EXTENDED_ADDRESS_FORMS).optional()
 });
 
 /** Shop thresholds; every field optional, defaults in policy.ts. Lengths in `units`. */

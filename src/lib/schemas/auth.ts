@@ -28,7 +28,7 @@ export const SLUG_RULE =
 export const slugField = z
 	.string()
 	.trim()
-	.regex(/^[a-z0-9]([a-z0-9-]{0,46}[a-z0-9])$/, `Shop address must be ${SLUG_RULE}.`);
+	.regex(/^[a-z0-9]([a-z0-9-]{0,46}[a-z0-9])$/, `The web address must be ${SLUG_RULE}.`);
 
 export const signInSchema = z.object({
 	email: emailField,

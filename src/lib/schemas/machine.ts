@@ -1,5 +1,11 @@
 import { z } from 'zod';
-import { controlStyleSchema, conventionSchema, unitsSchema } from '$lib/offsets';
+import {
+	controlStyleSchema,
+	conventionSchema,
+	EXTENDED_ADDRESS_FORMS,
+	MAX_EXTENDED_REGISTER,
+	unitsSchema
+} from '$lib/offsets';
 import { lengthField, numberField, optionalLengthField } from './number';
 
 /**
@@ -26,14 +32,36 @@ const machineShape = {
 		rangeMessage: 'Least increment must be greater than zero.'
 	}),
 	controlStyle: controlStyleSchema.default('iso'),
+	/** How many extended work offsets the control has (G54.1 P1…Pn, or G54 P1…Pn). */
+	extendedWorkOffsets: numberField('Extended work offsets', {
+		whole: true,
+		min: 0,
+		max: MAX_EXTENDED_REGISTER,
+		rangeMessage: `Extended work offsets must be a whole number from 0 to ${MAX_EXTENDED_REGISTER} (Datumkeep keeps up to ${MAX_EXTENDED_REGISTER}).`
+	}).default(0),
+	extendedAddress: z.enum(EXTENDED_ADDRESS_FORMS).default('G54.1 P'),
 	convention: conventionSchema.default('reference-touch'),
 	notes: z.string().trim().max(2000, 'Notes too long (2000 characters at most).').default('')
 };
 
 function plausibleMachine(
-	m: { units: 'inch' | 'mm'; zTravel: number; resolution: number },
+	m: {
+		units: 'inch' | 'mm';
+		zTravel: number;
+		resolution: number;
+		controlStyle: 'rs274ngc' | 'iso';
+		extendedWorkOffsets: number;
+	},
 	ctx: z.RefinementCtx
 ) {
+	if (m.controlStyle === 'rs274ngc' && m.extendedWorkOffsets > 0) {
+		ctx.addIssue({
+			code: 'custom',
+			path: ['extendedWorkOffsets'],
+			message:
+				'Load programs in the tool-table form (G10 L1) have no extended work offsets (its G10 L2 P7–P9 are G59.1–G59.3): set 0, or choose the G10 L10 length form.'
+		});
+	}
 	// Plausibility, our own bounds: no vertical machining centre has Z travel of 2 m or more.
 	const maxTravel = m.units === 'inch' ? 80 : 2000;
 	if (m.zTravel >= maxTravel) {

@@ -22,3 +22,14 @@ export const acceptInvitationSchema = z.object({
 	name: z.string().trim().max(120, 'Name too long (120 characters at most).').default(''),
 	password: z.union([z.literal(''), newPasswordField]).default('')
 });
+
+/** Removing a member must be confirmed (the page names the person first). */
+export const confirmRemoveSchema = removeMemberSchema.extend({
+	confirm: z.literal('yes', { message: 'Confirm the removal first.' })
+});
+
+/** Handing over ownership: to whom, confirmed with the owner's own password. */
+export const transferOwnershipSchema = z.object({
+	membershipId: idField('Member', 'Choose the member who becomes the owner.'),
+	password: z.string().min(1, 'Enter your password to confirm.')
+});

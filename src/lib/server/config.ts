@@ -15,6 +15,18 @@ export const config = {
 	get appDatabaseUrl(): string {
 		return process.env.DATABASE_APP_URL || this.databaseUrl;
 	},
+	/**
+	 * A session-level connection to the same database for what needs one: the change feed's
+	 * LISTEN. When the app's URL points at a transaction-pooling PgBouncer (`npm run cluster`),
+	 * DATABASE_DIRECT_URL names PostgreSQL itself; otherwise both are the same server.
+	 */
+	get databaseDirectUrl(): string {
+		return process.env.DATABASE_DIRECT_URL || this.appDatabaseUrl;
+	},
+	/** This app node's name in a cluster (NODE_NAME), sent as `x-datumkeep-node`; none alone. */
+	get nodeName(): string | undefined {
+		return process.env.NODE_NAME || undefined;
+	},
 	get redisUrl(): string {
 		return process.env.REDIS_URL ?? 'redis://127.0.0.1:63799/0';
 	},

@@ -3,6 +3,7 @@ import { can, type Capability, type Role } from '$lib/permissions';
 import { db } from './db';
 import { changeFeed, perProcess } from './db/change-feed';
 import { createMembershipCache, membershipKey } from './shops/membership-cache';
+import { formerMembership } from './shops/lifecycle';
 import { findMembership, type ShopRow } from './shops/queries';
 
 export interface Member {
@@ -60,9 +61,28 @@ export async function requireMember(
 	const slug = event.params.shop;
 	if (!slug) error(404, 'Not found');
 	const membership = await membershipFor(event, user.id, slug);
-	if (!membership) error(404, 'Not found');
+	if (!membership) {
+		// Someone removed from the shop (or whose shop was deleted) is told so on a page of its
+		// own rather than a bare "not found"; everyone else still learns nothing (issue 18).
+		if (!isApi(event) && (await formerMembership(db(), user.id, slug))) {
+			redirect(303, `/access-ended/${encodeURIComponent(slug)}`);
+		}
+		error(404, 'Not found');
+	}
 	if (!can(membership.role, capability)) {
 		error(403, 'Your role in this shop does not allow this.');
+	}
+	// A shop waiting out its deletion grace period is read-only; only its owner may act, to
+	// restore it (issue 18).
+	if (
+		membership.shop.deletionPurgeAfter &&
+		!onlyReads(event.request.method) &&
+		capability !== 'shop.delete'
+	) {
+		error(
+			423,
+			'This shop is set to be deleted and is read-only. Its owner can restore it on the Settings page.'
+		);
 	}
 	return { user, shop: { ...membership.shop }, role: membership.role };
 }

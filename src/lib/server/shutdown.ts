@@ -2,6 +2,7 @@ import { closeDb } from './db';
 import { stopChangeFeed } from './db/change-feed';
 import { closeProgramQueue } from './programs/queue';
 import { closeAppQueue } from './queues/shop-checks';
+import { closeLifecycleQueue } from './shops/lifecycle-queue';
 import { closeRedis } from './redis';
 
 /**
@@ -16,6 +17,7 @@ export async function closeServerResources(): Promise<void> {
 		stopChangeFeed(),
 		closeAppQueue(),
 		closeProgramQueue(),
+		closeLifecycleQueue(),
 		closeRedis()
 	]);
 	await closeDb().catch(() => {});

@@ -1,5 +1,6 @@
 import { json } from '@sveltejs/kit';
 import { db } from '$lib/server/db';
+import { startedChangeFeed } from '$lib/server/db/change-feed';
 import { redis } from '$lib/server/redis';
 import type { RequestHandler } from './$types';
 
@@ -28,6 +29,8 @@ export const GET: RequestHandler = async () => {
 			status: ok ? 'ok' : 'degraded',
 			database,
 			redis: redisStatus,
+			// This process's change feed: null until a cache first needs it; caches serve only while live.
+			changeFeed: startedChangeFeed() ? { live: startedChangeFeed()!.live } : null,
 			time: new Date().toISOString()
 		},
 		{ status: ok ? 200 : 503, headers: { 'cache-control': 'no-store' } }

@@ -11,6 +11,7 @@ export const L = {
 	I: 8,
 	J: 9,
 	K: 10,
+	L: 11,
 	M: 12,
 	N: 13,
 	O: 14,
@@ -45,7 +46,13 @@ export const ScanProblem = {
 	/** More G or M codes in one block than any control takes. */
 	TooManyCodes: 6,
 	/** A number too large to be a length or a code. */
-	BadNumber: 7
+	BadNumber: 7,
+	/** The letter O where a zero was meant ("GOO", "G0O"): the control refuses the block. */
+	LetterO: 8,
+	/** Letters side by side that are no macro statement ("JUNK"): the control refuses it. */
+	Letters: 9,
+	/** A "(" inside a comment: comments do not nest. */
+	NestedComment: 10
 } as const;
 export type ScanProblem = (typeof ScanProblem)[keyof typeof ScanProblem];
 
@@ -55,7 +62,9 @@ export const Unmodelled = {
 	/** `#` parameters (`#100=2`, `Z#5`) or `[...]` expressions. */
 	Parameter: 1,
 	/** Macro words: IF, WHILE, GOTO, END, DO... */
-	MacroWord: 2
+	MacroWord: 2,
+	/** A parameter set on its own (`#100 = 2.`): nothing moves on this line. */
+	Assign: 3
 } as const;
 export type Unmodelled = (typeof Unmodelled)[keyof typeof Unmodelled];
 
@@ -83,10 +92,23 @@ export class Block {
 	/** Column (1-based) of the problem. */
 	problemCol = 0;
 	unmodelled: Unmodelled = Unmodelled.None;
+	/** A G or M code given by a parameter (`G#1`): what the block does is not known. */
+	unknownCode = false;
+
+	/** Letters given on this line (so reset clears only those). */
+	readonly given = new Uint8Array(26);
+	givenCount = 0;
+
+	/** Marks letter `letter` as given with `state` (NUMBER or UNKNOWN). */
+	mark(letter: number, state: number): void {
+		if (this.has[letter] === ABSENT) this.given[this.givenCount++] = letter;
+		this.has[letter] = state;
+	}
 
 	/** Clears for the next line. */
 	reset(): void {
-		this.has.fill(0);
+		for (let i = 0; i < this.givenCount; i++) this.has[this.given[i]] = ABSENT;
+		this.givenCount = 0;
 		this.gCount = 0;
 		this.mCount = 0;
 		this.words = 0;
@@ -96,6 +118,7 @@ export class Block {
 		this.problemChar = 0;
 		this.problemCol = 0;
 		this.unmodelled = Unmodelled.None;
+		this.unknownCode = false;
 	}
 
 	/** Adds a G (or M) code; false when the block already holds the most we keep. */

@@ -94,7 +94,12 @@ describe('no-length-comp', () => {
 			'Z0.1', // 13: G43 H1 is still in force, but nothing was taken up for T2
 			'M30'
 		];
-		expect(found(program(...lines))).toEqual([['no-length-comp', 13, 'stop']]);
+		// H1 is still applied to T2 (0.5 in shorter: H2 − H1), so the rapid to Z0.1 puts T2's
+		// tip at 0.1 + 1.25 − 0.5 = 0.85, below the part top (1.25): into the part as well.
+		expect(found(program(...lines))).toEqual([
+			['no-length-comp', 13, 'stop'],
+			['rapid-into-part', 13, 'stop']
+		]);
 		expect(checkProgram(program(...lines), PUMP).findings[0].message).toMatch(/T2 \(line 11\)/);
 	});
 
@@ -105,10 +110,14 @@ describe('no-length-comp', () => {
 			referenceGaugeLineZ: -18
 		});
 		const setup = { ...PUMP, table: gauge, geometry: { referenceGaugeLineZ: -18 } };
+		// The real tip runs 3 in low: the rapid to Z0.1 at line 7 ends inside the part, and
+		// the one at line 12 (from inside G54's part height) too.
 		const lines = withLine(CLEAN, 6, 'G0 Z4.5');
 		expect(found(program(...lines), setup)).toEqual([
 			['no-length-comp', 6, 'stop'],
-			['low-traverse', 11, 'stop']
+			['rapid-into-part', 7, 'stop'],
+			['low-traverse', 11, 'stop'],
+			['rapid-into-part', 12, 'caution']
 		]);
 	});
 
@@ -119,7 +128,9 @@ describe('no-length-comp', () => {
 		const setup = { ...PUMP, table: gauge, geometry: { referenceGaugeLineZ: -18 } };
 		expect(found(program(...withLine(CLEAN, 6, 'G43 H0 Z4.5')), setup)).toEqual([
 			['no-length-comp', 6, 'stop'],
-			['low-traverse', 11, 'stop']
+			['rapid-into-part', 7, 'stop'],
+			['low-traverse', 11, 'stop'],
+			['rapid-into-part', 12, 'caution']
 		]);
 	});
 });
@@ -181,17 +192,23 @@ describe('unknown offsets', () => {
 		expect(r.stats.workOffsets).toEqual(['G54', 'G54.1 P2']);
 	});
 
-	test('an H number missing from the table stops; G43 with no H stops', () => {
+	test('an H number missing from the table stops; G43 with no H and no H before stops', () => {
 		expect(found(program(...withLine(CLEAN, 6, 'G43 H7 Z4.5')))).toEqual([
 			['unknown-tool-offset', 6, 'stop']
 		]);
-		expect(found(program(...withLine(CLEAN, 6, 'G43 Z4.5')))).toEqual([
+		// ISO-style: G43 without H keeps the H in force; none was given yet (dialect.ts).
+		const iso = { ...PUMP, dialect: 'iso' as const };
+		expect(found(program(...withLine(CLEAN, 6, 'G43 Z4.5')), iso)).toEqual([
 			['unknown-tool-offset', 6, 'stop']
 		]);
+		// RS274NGC-style: the loaded tool's entry (T1 → H1): nothing wrong.
+		const ngc = { ...PUMP, dialect: 'rs274ngc' as const };
+		expect(found(program(...withLine(CLEAN, 6, 'G43 Z4.5')), ngc)).toEqual([]);
 	});
 
-	test('another tool’s H while a tool is loaded is a caution', () => {
-		const r = found(program(...withLine(CLEAN, 6, 'G43 H2 Z4.5')));
+	test('another tool’s H is a caution while the tip stays above the clearance height', () => {
+		// T1 with H2 (0.5 in longer offset): tip at 4.5 + 1.25 + 0.5 = 6.25 ≥ 5.5.
+		const r = found(program(...CLEAN.slice(0, 5), 'G43 H2 Z4.5', 'M30'));
 		expect(r).toEqual([['unknown-tool-offset', 6, 'caution']]);
 	});
 });
@@ -231,25 +248,32 @@ describe('parse-error', () => {
 		expect(found(program(...withLine(CLEAN, 9, 'X2. X3.')))).toEqual([['parse-error', 9, 'stop']]);
 	});
 
-	test('parameters, macros, subprograms and G92 are cautions, never crashes', () => {
-		for (const line of [
-			'#100 = 2.',
-			'IF [#1 GT 2] GOTO 5',
-			'M98 P1000',
-			'G65 P9000 A1.',
-			'G10 L2 P1 Z1.'
-		]) {
-			expect(found(program(...withLine(CLEAN, 9, line))), line).toEqual([
-				['parse-error', 9, 'caution']
-			]);
+	test('macros, external subprograms and G65 make one heights-unknown span; G10 a caution', () => {
+		// Line 9 loses the heights; line 10 (G0 Z4.5, absolute) picks them up again.
+		for (const line of ['IF [#1 GT 2] GOTO 5', 'M98 P1000', 'G65 P9000 A1.']) {
+			const r = checkProgram(program(...withLine(CLEAN, 9, line)), PUMP);
+			expect(
+				r.findings.map((f) => [f.kind, f.severity, f.data]),
+				line
+			).toEqual([['heights-unknown', 'caution', { from: 9, until: 10 }]]);
 		}
+		expect(found(program(...withLine(CLEAN, 9, 'G10 L2 P1 Z1.')))).toEqual([
+			['parse-error', 9, 'caution']
+		]);
+		// Setting a parameter moves nothing: no finding.
+		expect(found(program(...withLine(CLEAN, 9, '#100 = 2.')))).toEqual([]);
 	});
 
 	test('a Z from a parameter makes the height unknown, so no later height is guessed', () => {
 		const lines = withLine(withLine(CLEAN, 10, 'G0 Z#101'), 14, 'G0 Z#102');
-		expect(found(program(...lines))).toEqual([
-			['parse-error', 10, 'caution'],
-			['parse-error', 14, 'caution']
+		const r = checkProgram(program(...lines), PUMP);
+		expect(r.findings.map((f) => [f.kind, f.severity, f.data])).toEqual([
+			['heights-unknown', 'caution', { from: 10, until: 12 }],
+			['heights-unknown', 'caution', { from: 14, until: 15 }] // G28 Z: home is known
+		]);
+		expect(r.stats.unknownSpans).toEqual([
+			[10, 12],
+			[14, 15]
 		]);
 	});
 
@@ -322,12 +346,16 @@ describe('line numbers and framing', () => {
 		expect(findingSchema.parse(r.findings[0])).toEqual(r.findings[0]);
 	});
 
-	test('findings are capped per kind and the rest counted', () => {
-		const text = program(...CLEAN.slice(0, 5), ...Array.from({ length: 300 }, () => 'G1 X'));
+	test('cautions are capped per kind and the rest counted', () => {
+		const text = program(
+			...CLEAN.slice(0, 5),
+			...Array.from({ length: 300 }, () => 'G10 L2 P1 Z1.')
+		);
 		const r = checkProgram(text, { ...PUMP, maxFindingsPerKind: 10 });
 		expect(r.findings).toHaveLength(10);
 		expect(r.stats.findingCounts['parse-error']).toBe(300);
 		expect(r.stats.suppressed).toBe(290);
+		expect(r.stats.severityCounts).toEqual({ stop: 0, caution: 300 });
 		expect(r.findings.map((f) => (f.subject as { line: number }).line)).toEqual(
 			Array.from({ length: 10 }, (_, i) => 6 + i)
 		);

@@ -2,6 +2,7 @@
  * What each G code (× 10) means to the check. Semantics: NIST RS274NGC v3 (NISTIR 6556)
  * §3.4 modal groups, §3.5 codes; ISO-style extras (G54.1 Pn, G65, G68.2) [memory].
  */
+import { dialectRules, type Dialect, type DialectRules } from './dialect';
 
 /** How the interpreter treats a G code. */
 export const GKind = {
@@ -50,35 +51,59 @@ export const CAUTION_WHY: Record<number, string> = {
 
 const IGNORE = [
 	40, 90, 150, 160, 170, 180, 190, 400, 410, 420, 500, 610, 611, 640, 670, 680, 690, 930, 940, 950,
-	960, 970
+	960, 970,
+	// G90.1 / G91.1: arc centres absolute or incremental; they move no Z end point (common in
+	// post headers; NIST v3 does not have them, later RS274NGC interpreters do [memory]).
+	901, 911
 ];
-const CYCLES = [730, 740, 760, 810, 820, 830, 840, 850, 860, 870, 880, 890];
+/**
+ * ISO-style codes that change no Z end point, met in posted headers [memory]: G5 P_ / G5.1 Q_
+ * (high-speed / look-ahead modes), G8 (look-ahead), G103 and G187 (look-ahead, smoothing).
+ */
+const ISO_IGNORE = [50, 51, 80, 1030, 1870];
 
-const TABLE = new Map<number, GKind>();
-for (const c of IGNORE) TABLE.set(c, GKind.Ignore);
-for (const c of [0, 10, 20, 30]) TABLE.set(c, GKind.Motion);
-for (const c of CYCLES) TABLE.set(c, GKind.Cycle);
-TABLE.set(800, GKind.CycleCancel);
-TABLE.set(200, GKind.Units);
-TABLE.set(210, GKind.Units);
-TABLE.set(900, GKind.Distance);
-TABLE.set(910, GKind.Distance);
-TABLE.set(430, GKind.LengthOn);
-TABLE.set(490, GKind.LengthOff);
-for (const c of [540, 550, 560, 570, 580, 590]) TABLE.set(c, GKind.Work);
-TABLE.set(541, GKind.WorkExtended);
-for (const c of [591, 592, 593]) TABLE.set(c, GKind.WorkUnsupported);
-TABLE.set(530, GKind.MachineCoords);
-TABLE.set(280, GKind.Home);
-TABLE.set(980, GKind.Retract);
-TABLE.set(990, GKind.Retract);
-for (const c of Object.keys(CAUTION_WHY)) TABLE.set(Number(c), GKind.Caution);
-TABLE.set(921, GKind.ShiftCancel);
-TABLE.set(922, GKind.ShiftCancel);
+/** G codes × 10 → kind, for one dialect. */
+export type GTable = ReadonlyMap<number, GKind>;
 
-/** The kind of a G code × 10. */
-export function gKind(code: number): GKind {
-	return TABLE.get(code) ?? GKind.Unknown;
+function table(rules: DialectRules): GTable {
+	const t = new Map<number, GKind>();
+	for (const c of IGNORE) t.set(c, GKind.Ignore);
+	if (rules.dialect === 'iso') for (const c of ISO_IGNORE) t.set(c, GKind.Ignore);
+	for (const c of [0, 10, 20, 30]) t.set(c, GKind.Motion);
+	for (const c of rules.cycles) t.set(c, GKind.Cycle);
+	t.set(800, GKind.CycleCancel);
+	t.set(200, GKind.Units);
+	t.set(210, GKind.Units);
+	t.set(900, GKind.Distance);
+	t.set(910, GKind.Distance);
+	t.set(430, GKind.LengthOn);
+	t.set(490, GKind.LengthOff);
+	for (const c of [540, 550, 560, 570, 580, 590]) t.set(c, GKind.Work);
+	t.set(541, GKind.WorkExtended);
+	for (const c of [591, 592, 593]) t.set(c, GKind.WorkUnsupported);
+	t.set(530, GKind.MachineCoords);
+	t.set(280, GKind.Home);
+	t.set(980, GKind.Retract);
+	t.set(990, GKind.Retract);
+	for (const c of Object.keys(CAUTION_WHY)) t.set(Number(c), GKind.Caution);
+	t.set(921, GKind.ShiftCancel);
+	t.set(922, GKind.ShiftCancel);
+	return t;
+}
+
+const TABLES: Record<Dialect, GTable> = {
+	iso: table(dialectRules('iso')),
+	rs274ngc: table(dialectRules('rs274ngc'))
+};
+
+/** The code table of a dialect. */
+export function gTable(dialect: Dialect): GTable {
+	return TABLES[dialect];
+}
+
+/** The kind of a G code × 10 (RS274NGC-style unless a table is given). */
+export function gKind(code: number, t: GTable = TABLES.rs274ngc): GKind {
+	return t.get(code) ?? GKind.Unknown;
 }
 
 /** "G54.1" for 541, "G0" for 0. */

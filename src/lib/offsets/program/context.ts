@@ -8,6 +8,7 @@ import { canonicalH, canonicalRegister } from '../registers';
 import { normalizeTable, parseMachine, travelLimits } from '../table';
 import { resolutionFor, toUnits, type Units } from '../units';
 import { parseInput } from '../validate';
+import type { Dialect, DialectFrom } from './dialect';
 import { programSetupSchema, type ProgramSetup, type RegisterState } from './schema';
 
 /** A fixture of the setup, heights above the reference in machine units. */
@@ -45,6 +46,9 @@ export interface CheckContext {
 	toolStatus: Map<string, RegisterState[]>;
 	programId: string | undefined;
 	maxPerKind: number;
+	dialect: Dialect;
+	dialectFrom: DialectFrom;
+	profile: boolean;
 }
 
 const asList = (s: RegisterState | RegisterState[]): RegisterState[] =>
@@ -122,6 +126,9 @@ export function resolveContext(input: ProgramSetup): CheckContext {
 		workStatus,
 		toolStatus,
 		programId: s.programId,
-		maxPerKind: s.maxFindingsPerKind ?? 25
+		maxPerKind: s.maxFindingsPerKind ?? 25,
+		dialect: s.dialect ?? machine.controlStyle ?? 'rs274ngc',
+		dialectFrom: s.dialect ? 'chosen' : machine.controlStyle ? 'machine' : 'default',
+		profile: s.profile ?? false
 	};
 }

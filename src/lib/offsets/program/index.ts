@@ -4,12 +4,22 @@
  */
 export {
 	checkProgram,
+	checkProgramStream,
 	createProgramChecker,
 	MAX_LINE_CHARS,
 	type ProgramChecker,
 	type ProgramCheckResult,
 	type ProgramStats
 } from './checker';
+export {
+	DIALECTS,
+	dialectRules,
+	type Dialect,
+	type DialectFrom,
+	type DialectRules
+} from './dialect';
+export type { ProgramProfile, ProfilePoint } from './profile';
+export { createSubprogramCollector, type SubprogramLibrary } from './structure';
 export {
 	programSetupSchema,
 	REGISTER_STATES,

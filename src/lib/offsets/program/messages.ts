@@ -23,6 +23,23 @@ function shown(code: number): string {
 	return `code ${code.toString(16).toUpperCase().padStart(2, '0')} (hex)`;
 }
 
+/** Why heights became unknown (the middle of say.heightsUnknown). */
+export const why = {
+	parameter: 'a position is given by a parameter or expression (#, [ ])',
+	macro: 'macro statements (IF, GOTO, WHILE…) may change which blocks run',
+	flow: 'o-word flow control (if, while, repeat…) may change which blocks run',
+	unknownCode: (code: string) =>
+		`${code} is not a code this check knows, so its motion is not known`,
+	codeByParameter: 'a G or M code is given by a parameter',
+	external: (name: string) =>
+		`the subprogram ${name} is not in this file (or not before its call), so its moves are not known`,
+	recursion: (name: string) => `the subprogram ${name} calls itself or nests too deep to follow`,
+	budget: 'subprogram calls repeat more lines than this check follows',
+	code: (code: string, why: string) => `${code} is not followed (${why})`,
+	localSub: 'M97 jumps to a block of this program, which this check does not follow',
+	lengthParameter: 'the length offset comes from a parameter'
+};
+
 export const say = {
 	lowBetween: (f: Fmt, to: string, from: string, tip: number, safe: number, plane?: number) =>
 		`Rapid sideways in ${to} with the tool tip ${f(tip)} above the reference, below the ` +
@@ -70,9 +87,17 @@ export const say = {
 	toolMissing: (h: string) =>
 		`H${h} is not in the offset table, so this tool's length is unknown. Measure the tool and ` +
 		`set H${h}, or use the H number of a measured tool.`,
-	toolNoH: () =>
-		`G43 has no H number, so it is not clear which length the control applies. Add the ` +
-		`tool's H number (G43 H_).`,
+	toolNoH: (iso: boolean) =>
+		iso
+			? `G43 has no H number and none was given before, so the control applies whatever H ` +
+				`is in force (often H0, no length at all). Add the tool's H number (G43 H_).`
+			: `G43 has no H number and no tool was loaded with M6 before it, so it is not clear ` +
+				`which length the control applies. Load the tool first or add its H number (G43 H_).`,
+	toolOtherHLow: (f: Fmt, h: string, tool: string, own: string, tip: number, safe: number) =>
+		`G43 H${h} applies another tool's length while T${tool} is in the spindle (its length is ` +
+		`kept in H${own}), and with it the tip goes down to ${f(tip)} above the reference, below ` +
+		`the clearance height of ${f(safe)}: the real tip is not where the program thinks. Use ` +
+		`H${own}, or correct the tool list if H${h} is right.`,
 	toolOtherH: (h: string, tool: string, own: string) =>
 		`G43 H${h} applies another tool's length while T${tool} is in the spindle (its length is ` +
 		`kept in H${own}). Use H${own}, or correct the tool list if H${h} is right.`,
@@ -99,6 +124,12 @@ export const say = {
 				return `This line holds ${shown(char)} at column ${col}, which is not program text: the file may be binary or in an unexpected encoding. Upload the plain-text program.`;
 			case ScanProblem.BadNumber:
 				return `The number after ${shown(char)} at column ${col} is too large to be a real value; the control will refuse this line. Correct the number.`;
+			case ScanProblem.LetterO:
+				return `The letter O at column ${col} stands where a number belongs (e.g. "GOO" typed for "G00"); the control will refuse this line. Type the zero.`;
+			case ScanProblem.Letters:
+				return `${shown(char)} at column ${col} starts letters with no number between them, which is neither a word nor a macro statement; the control will refuse this line. Correct it or put it in a comment.`;
+			case ScanProblem.NestedComment:
+				return `A "(" at column ${col} opens a comment inside a comment; comments do not nest and the control will refuse or misread this line. Remove the inner parentheses.`;
 			case ScanProblem.TooManyCodes:
 				return `Too many G or M codes on one line for a real block. Split it into several lines.`;
 			default:
@@ -124,6 +155,43 @@ export const say = {
 	toolChangeNoT: () =>
 		`M6 with no T word before it: the check cannot tell which tool is loaded. Put T_ on this ` +
 		`line or before it.`,
+	conflictCancel: (code: string) =>
+		`G80 and ${code} on one line: checked as RS274NGC-style, both are motion codes (one ` +
+		`modal group) and the control refuses the line. Put G80 on a line of its own, or re-check ` +
+		`as ISO-style if this control takes G80 with a motion code.`,
+	rapidIntoPart: (
+		f: Fmt,
+		reg: string,
+		tip: number,
+		top: number,
+		fromAbove: boolean,
+		feedWord: boolean
+	) =>
+		(feedWord
+			? `This line gives a feed rate (F) but G0 is still in force, so it moves at rapid. `
+			: '') +
+		`Rapid down to ${f(tip)} above the reference, below the top of the ${reg} part ` +
+		`(${f(top)})` +
+		(fromAbove
+			? `: the tool goes into the material at full rapid. Stop the rapid above the part ` +
+				`(at a clearance or feed height) and feed down with G1.`
+			: `, starting from inside it. If that depth is already cut it may be safe; otherwise ` +
+				`feed this move (G1).`),
+	feedUnderRapid: (f: Fmt, tip: number, safe: number) =>
+		`This line gives a feed rate (F) but G0 is still in force, so it moves at rapid down to ` +
+		`${f(tip)} above the reference, below the clearance height of ${f(safe)}. Add G1 if the ` +
+		`move is meant to feed.`,
+	heightsUnknown: (why: string, until: number | null, how: string) =>
+		`Heights are not known from here ${until === null ? 'to the end of the program' : `until line ${until} (${how})`}: ${why}. ` +
+		`The moves in between are not checked; watch them on the control's graphics or in single ` +
+		`block.`,
+	overtravelMore: (count: number, last: number) =>
+		` The same tool goes past the travel on ${count} more move${count === 1 ? '' : 's'}, the ` +
+		`last on line ${last}.`,
+	unclosed: (name: string, iso: boolean) =>
+		`Subprogram ${iso ? 'O' : 'o'}${name} has no ${iso ? 'M99' : `endsub`} before the end of ` +
+		`the file, so none of its lines were checked. Close it, or check whether this is a second ` +
+		`main program.`,
 	conflict: () =>
 		`Two motion codes on one line (e.g. G0 and G1); the control will refuse it. Keep one.`,
 	longLine: (max: number) =>

@@ -50,10 +50,23 @@ describe('scanLine: word-address format (ISO 6983-1 [memory]; NISTIR 6556 §3.3)
 		expect(p.has[L.Z]).toBe(UNKNOWN);
 		expect(p.has[L.X]).toBe(NUMBER);
 		expect(p.has[L.Y]).toBe(UNKNOWN); // after an expression nothing further is trusted
-		expect(scan('#100 = 2.').unmodelled).toBe(Unmodelled.Parameter);
+		expect(scan('#100 = 2.').unmodelled).toBe(Unmodelled.Assign);
 		expect(scan('Z[#1+2.]').has[L.Z]).toBe(UNKNOWN);
 		expect(scan('IF [#1 GT 2] GOTO 5').unmodelled).toBe(Unmodelled.MacroWord);
 		expect(scan('o100 sub').unmodelled).toBe(Unmodelled.MacroWord);
+		expect(scan('WHILE [#1 LT 5] DO1').unmodelled).toBe(Unmodelled.MacroWord);
+		expect(scan('G#1 X1.').unknownCode).toBe(true);
+	});
+
+	test('typos the control refuses: letter O for zero, stray letters, nested comments', () => {
+		expect(scan('GOO X1.').problem).toBe(ScanProblem.LetterO);
+		expect(scan('G0O X1.').problem).toBe(ScanProblem.NoNumber);
+		expect(scan('G1 ZO.5').problem).toBe(ScanProblem.LetterO);
+		expect(scan('G0 X1. JUNK').problem).toBe(ScanProblem.Letters);
+		const nested = scan('G0 X1. (A (B) C)');
+		expect(nested.problem).toBe(ScanProblem.NestedComment);
+		expect(nested.problemCol).toBe(11);
+		expect(scan("'G0 Z-0.5").problem).toBe(ScanProblem.BadChar);
 	});
 
 	test('problems carry the character and its column', () => {

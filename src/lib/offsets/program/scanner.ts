@@ -28,8 +28,51 @@ function markRestUnknown(text: string, from: number, end: number, b: Block): voi
 		const u = text.charCodeAt(i) | 32;
 		const letter = u - 97;
 		if ((letter === L.X || letter === L.Y || letter === L.Z) && b.has[letter] === ABSENT)
-			b.has[letter] = UNKNOWN;
+			b.mark(letter, UNKNOWN);
 	}
+}
+
+/**
+ * Macro and flow words (ISO-style custom macro B and RS274NGC o-codes [memory]); any other run
+ * of letters is a typo the control refuses.
+ */
+const MACRO_WORDS = new Set([
+	'IF',
+	'THEN',
+	'GOTO',
+	'WHILE',
+	'DO',
+	'END',
+	'SUB',
+	'ENDSUB',
+	'CALL',
+	'RETURN',
+	'ELSE',
+	'ELSEIF',
+	'ENDIF',
+	'ENDWHILE',
+	'REPEAT',
+	'ENDREPEAT',
+	'BREAK',
+	'CONTINUE',
+	'POPEN',
+	'PCLOS',
+	'DPRNT',
+	'BPRNT',
+	'SETVN',
+	'MSG',
+	'DEBUG',
+	'PRINT',
+	'LOG',
+	'LOGOPEN',
+	'LOGCLOSE'
+]);
+
+/** True when text[from, to) (letters, any case) is a macro word; allocates only for runs ≤ 9. */
+function isMacroWord(text: string, from: number, to: number): boolean {
+	if (to - from > 9) return false;
+	// "END1", "DO2", "GOTO10": the run stops at the digit already.
+	return MACRO_WORDS.has(text.slice(from, to).toUpperCase());
 }
 
 /** Reads text[start, end) (one line, no line break) into `b`. Never throws. */
@@ -61,18 +104,31 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 				// "#" or "[": a parameter or expression (NISTIR 6556 §3.3.2); value unknown here.
 				b.words++;
 				b.unmodelled = Unmodelled.Parameter;
-				if (letter !== L.G && letter !== L.M) b.has[letter] = UNKNOWN;
+				if (letter !== L.G && letter !== L.M) b.mark(letter, UNKNOWN);
+				else b.unknownCode = true;
 				markRestUnknown(text, j, end, b);
 				return;
 			}
 			const dl = (d | 32) - 97;
 			if (dl >= 0 && dl < 26 && d >= 65 && j === i + 1) {
-				// Two letters side by side never form a word: macro statements (IF, GOTO, o100 sub).
-				b.words++;
-				b.unmodelled = Unmodelled.MacroWord;
-				markRestUnknown(text, j, end, b);
-				return;
+				// Two letters side by side never form a word: a macro statement (IF, GOTO, WHILE,
+				// o100 sub) or a typo the control refuses ("GOO" with the letter O for zero).
+				let k = j;
+				while (k < end) {
+					const e = text.charCodeAt(k) | 32;
+					if (e < 97 || e > 122) break;
+					k++;
+				}
+				if (isMacroWord(text, i, k)) {
+					b.words++;
+					b.unmodelled = Unmodelled.MacroWord;
+					markRestUnknown(text, j, end, b);
+					return;
+				}
+				const oh = (d | 32) === 111;
+				return problem(b, oh ? ScanProblem.LetterO : ScanProblem.Letters, c, i - start + 1);
 			}
+			if (dl === 14 && letter !== L.O) return problem(b, ScanProblem.LetterO, c, i - start + 1);
 			if (dl >= 0 && dl < 26 && d >= 65) return problem(b, ScanProblem.NoNumber, c, i - start + 1);
 			let k = j;
 			let negative = false;
@@ -112,7 +168,7 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 			} else if (letter !== L.N) {
 				// N is a sequence number: it names a block and changes nothing (NISTIR 6556 §3.3).
 				if (b.has[letter] !== ABSENT) return problem(b, ScanProblem.Duplicate, c, i - start + 1);
-				b.has[letter] = NUMBER;
+				b.mark(letter, NUMBER);
 				b.val[letter] = value;
 			}
 			i = k;
@@ -122,6 +178,9 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 			// Comments do not nest (NISTIR 6556 §3.3.4): the first ")" closes.
 			const close = text.indexOf(')', i + 1);
 			if (close < 0 || close >= end) return problem(b, ScanProblem.OpenComment, c, i - start + 1);
+			for (let k = i + 1; k < close; k++)
+				if (text.charCodeAt(k) === 40)
+					return problem(b, ScanProblem.NestedComment, 40, k - start + 1);
 			i = close + 1;
 			continue;
 		}
@@ -131,8 +190,13 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 			return;
 		}
 		if (c === 35) {
-			// "#100 = 2": a parameter setting.
+			// "#100 = 2" first on the line sets a parameter and moves nothing; later on a line the
+			// rest cannot be trusted.
 			b.words++;
+			if (b.words === 1) {
+				b.unmodelled = Unmodelled.Assign;
+				return;
+			}
 			b.unmodelled = Unmodelled.Parameter;
 			markRestUnknown(text, i, end, b);
 			return;

@@ -5,6 +5,7 @@
  */
 import { z } from 'zod';
 import {
+	controlStyleSchema,
 	hNumberSchema,
 	lengthSchema,
 	machineSchema,
@@ -58,7 +59,14 @@ export const programSetupSchema = z.object({
 	policy: policySchema.optional(),
 	/** Put into each finding's subject, so keys stay unique across programs. */
 	programId: z.string().optional(),
-	/** Findings kept per kind; the rest are only counted (`stats.findingCounts`). Default 25. */
+	/**
+	 * Dialect to check in (docs/OFFSETS.md §13). Default: the machine's control style
+	 * (`iso` → ISO-style, `rs274ngc` → RS274NGC-style), else RS274NGC-style.
+	 */
+	dialect: controlStyleSchema.optional(),
+	/** Keep a downsampled picture of the tip's height along the program (`profile`). */
+	profile: z.boolean().optional(),
+	/** Cautions kept per kind; the rest are only counted (`stats.findingCounts`). Default 25. Stops are always kept. */
 	maxFindingsPerKind: z.number().int().min(1).max(10_000).optional()
 });
 

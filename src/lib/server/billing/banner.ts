@@ -1,6 +1,7 @@
 import { TRIAL_WARNING_DAYS } from '$lib/billing/plans';
+import { formatDay } from '$lib/time';
 import { graceEndsAt, shopWriteState } from './gate';
-import type { ShopBilling } from './state';
+import { allowanceName, machineLimit, type ShopBilling } from './state';
 
 /** The shop layout's billing notice: a tone (with icon and word, never colour alone) and text. */
 export interface BillingBanner {
@@ -11,7 +12,12 @@ export interface BillingBanner {
 }
 
 const DAY_MS = 86_400_000;
-const day = (d: Date) => d.toISOString().slice(0, 10);
+
+/** What the banner may also know: machines in use (for "over the plan") and the shop's zone. */
+export interface BannerContext {
+	machinesInUse?: number;
+	timeZone?: string;
+}
 
 /**
  * What the shop's members should know about billing, or null when all is well. `canManage`
@@ -20,8 +26,10 @@ const day = (d: Date) => d.toISOString().slice(0, 10);
 export function billingBanner(
 	b: ShopBilling,
 	canManage: boolean,
-	now: Date = new Date()
+	now: Date = new Date(),
+	context: BannerContext = {}
 ): BillingBanner | null {
+	const day = (d: Date) => formatDay(d, context.timeZone ?? 'UTC');
 	const who = canManage ? 'Open Billing to' : 'Ask an owner or admin to';
 	const state = shopWriteState(b, now);
 	if (b.status === 'canceled') {
@@ -61,6 +69,16 @@ export function billingBanner(
 				text: `The trial ends on ${day(b.trialEndsAt)} (${daysLeft} day${daysLeft === 1 ? '' : 's'} left). ${who} choose a plan to keep adding machines and setups.`
 			};
 		}
+	}
+	const limit = machineLimit(b);
+	if (limit !== null && context.machinesInUse !== undefined && context.machinesInUse > limit) {
+		// A downgrade in the billing portal can leave more machines than the plan allows: nothing
+		// is hidden or removed, only adding is refused (gate.ts) until the count fits again.
+		return {
+			tone: 'caution',
+			label: 'Over the plan',
+			text: `This shop has ${context.machinesInUse} active machines and the ${allowanceName(b)} allows ${limit}. Every machine and its history stays readable and usable, but no machine can be added. ${who} choose a larger plan, or archive machines no longer in use.`
+		};
 	}
 	if (b.status === 'active' && b.cancelAtPeriodEnd && b.currentPeriodEnd) {
 		return {

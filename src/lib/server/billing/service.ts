@@ -44,6 +44,23 @@ export interface BillingOverview {
 	machinesUsed: number;
 	machineLimit: number | null;
 	invoices: InvoiceView[];
+	/** Choosing a plan now keeps the trial until this date (nothing charged before). */
+	keepsTrialUntil: string | null;
+	/** What the next charge will be and when; null when nothing is due (trial, ending, none). */
+	nextCharge: { cents: number; currency: string; on: string; afterTrial: boolean } | null;
+}
+
+/**
+ * Stripe's Checkout wants a `trial_end` at least 48 hours ahead; an hour more allows for the
+ * time between this page and the payment. A trial closer to its end is charged at once.
+ */
+const TRIAL_KEEP_MIN_MS = 49 * 3600_000;
+
+/** The trial end to keep when a trialing shop pays early, or null (see TRIAL_KEEP_MIN_MS). */
+export function trialToKeep(b: ShopBilling, now: Date = new Date()): Date | null {
+	const running = b.stripeSubscriptionId && b.status !== 'canceled';
+	if (running || b.status !== 'trialing') return null;
+	return b.trialEndsAt.getTime() - now.getTime() >= TRIAL_KEEP_MIN_MS ? b.trialEndsAt : null;
 }
 
 const iso = (d: Date | null) => (d ? d.toISOString() : null);
@@ -59,7 +76,24 @@ export async function billingOverview(knex: Knex, shop: ShopRef): Promise<Billin
 			.limit(24)
 			.select()
 	]);
+	const now = new Date();
+	const keep = trialToKeep(b, now);
+	const charging =
+		b.status === 'active' && b.plan && b.currentPeriodEnd && !b.cancelAtPeriodEnd
+			? { cents: planByKey(b.plan).monthlyCents, currency: 'usd', on: b.currentPeriodEnd }
+			: null;
 	return {
+		keepsTrialUntil: iso(keep),
+		nextCharge: charging
+			? {
+					...charging,
+					on: charging.on.toISOString(),
+					// The subscription's first period is the rest of the trial kept at checkout.
+					afterTrial:
+						b.trialEndsAt > now &&
+						Math.abs(charging.on.getTime() - b.trialEndsAt.getTime()) < 86_400_000
+				}
+			: null,
 		plan: b.plan,
 		status: b.status,
 		writeState: shopWriteState(b),
@@ -167,6 +201,7 @@ export async function choosePlan(
 		await record(knex, shop, by, 'billing.plan-change-requested', { from: b.plan, to: plan }, ip);
 		return { kind: 'changed', plan };
 	}
+	const keep = trialToKeep(b);
 	const customer = await ensureCustomer(knex, shop, by);
 	const back = `${origin}/shops/${shop.slug}/billing`;
 	const session = await stripe().checkout.sessions.create({
@@ -175,12 +210,23 @@ export async function choosePlan(
 		line_items: [{ price: priceIdFor(plan), quantity: 1 }],
 		client_reference_id: String(shop.id),
 		metadata: { shop_id: String(shop.id), plan },
-		subscription_data: { metadata: { shop_id: String(shop.id), plan } },
+		subscription_data: {
+			metadata: { shop_id: String(shop.id), plan },
+			// Paying during the trial keeps the trial: the first charge is on its last day.
+			...(keep ? { trial_end: Math.floor(keep.getTime() / 1000) } : {})
+		},
 		success_url: `${back}?checkout=done`,
 		cancel_url: `${back}?checkout=cancelled`
 	});
 	if (!session.url) throw new Error('Stripe returned a checkout session without a URL');
-	await record(knex, shop, by, 'billing.checkout-started', { plan }, ip);
+	await record(
+		knex,
+		shop,
+		by,
+		'billing.checkout-started',
+		keep ? { plan, trialKeptUntil: keep.toISOString().slice(0, 10) } : { plan },
+		ip
+	);
 	return { kind: 'checkout', url: session.url };
 }
 

@@ -415,7 +415,11 @@ function onInvoicePaid(ctx: Ctx, o: Obj): string {
 	if (ctx.before.status === 'past_due') setStatus(ctx, 'active');
 	ctx.audits.push({
 		action: 'billing.payment-received',
-		detail: { invoice: str(o, 'number') ?? str(o, 'id') ?? '', amount: num(o, 'amount_paid') ?? 0 }
+		detail: {
+			invoice: str(o, 'number') ?? str(o, 'id') ?? '',
+			amount: num(o, 'amount_paid') ?? 0,
+			currency: str(o, 'currency') ?? 'usd'
+		}
 	});
 	return 'invoice paid';
 }
@@ -429,7 +433,11 @@ function onPaymentFailed(ctx: Ctx, o: Obj): string {
 	setStatus(ctx, 'past_due');
 	ctx.audits.push({
 		action: 'billing.payment-failed',
-		detail: { invoice: str(o, 'number') ?? str(o, 'id') ?? '', amount: num(o, 'amount_due') ?? 0 }
+		detail: {
+			invoice: str(o, 'number') ?? str(o, 'id') ?? '',
+			amount: num(o, 'amount_due') ?? 0,
+			currency: str(o, 'currency') ?? 'usd'
+		}
 	});
 	return 'payment failed';
 }

@@ -20,6 +20,9 @@ export function manualChangeFeed(live = true) {
 			return () => subscribers.delete(fn);
 		},
 		async sync() {},
+		get heardUpTo() {
+			return state.live ? Date.now() : 0;
+		},
 		async stop() {
 			state.live = false;
 		},

@@ -24,6 +24,12 @@ export interface ChangeFeed {
 	 * come back in `timeoutMs`, the connection counts as lost (subscribers get `reset`).
 	 */
 	sync(timeoutMs?: number): Promise<void>;
+	/**
+	 * An instant (this process's clock, ms) such that every change committed before it has
+	 * reached the subscribers — or their caches were emptied after it: the send time of the last
+	 * marker that came back, or when LISTEN was put in place. 0 while not live.
+	 */
+	readonly heardUpTo: number;
 	stop(): Promise<void>;
 }
 
@@ -44,7 +50,7 @@ export interface ChangeFeed {
  * the app hear them when the notification reaches them (normally within milliseconds).
  */
 export function createChangeFeed(
-	url: string = config.appDatabaseUrl,
+	url: string = config.databaseDirectUrl,
 	options: { heartbeatMs?: number; heartbeatTimeoutMs?: number; connectTimeoutMs?: number } = {}
 ): ChangeFeed {
 	const heartbeatMs = options.heartbeatMs ?? 10_000;
@@ -63,6 +69,7 @@ export function createChangeFeed(
 	// One query at a time on the feed's connection (pg deprecates overlapping queries on one
 	// client): heartbeats and sync() markers wait their turn.
 	let sending: Promise<unknown> = Promise.resolve();
+	let heardUpTo = 0;
 
 	const emit = (m: ChangeMessage) => {
 		for (const fn of subscribers) {
@@ -77,6 +84,7 @@ export function createChangeFeed(
 	/** Sends a marker through the channel on `c`; true when it came back within `timeoutMs`. */
 	const roundTrip = async (c: pg.Client, timeoutMs: number): Promise<boolean> => {
 		const marker = `${syncPrefix}${++syncSeq}`;
+		const sentAt = Date.now();
 		let timeout: ReturnType<typeof setTimeout> | undefined;
 		const arrived = await new Promise<boolean>((resolve) => {
 			awaitingSync.set(marker, () => resolve(true));
@@ -89,6 +97,7 @@ export function createChangeFeed(
 		});
 		clearTimeout(timeout);
 		awaitingSync.delete(marker);
+		if (arrived && client === c) heardUpTo = Math.max(heardUpTo, sentAt);
 		return arrived;
 	};
 
@@ -103,6 +112,7 @@ export function createChangeFeed(
 		if (client !== c) return;
 		client = undefined;
 		live = false;
+		heardUpTo = 0;
 		emit({ kind: 'reset' });
 		c.removeAllListeners();
 		c.on('error', () => {});
@@ -135,11 +145,13 @@ export function createChangeFeed(
 		});
 		try {
 			await c.connect();
+			const listenAt = Date.now();
 			await c.query(`listen ${CHANGE_CHANNEL}`);
 			if (client !== c || stopped) return;
 			// Anything committed while nobody listened is unknown: start from empty caches.
 			emit({ kind: 'reset' });
 			live = true;
+			heardUpTo = listenAt;
 			retryMs = 500;
 		} catch {
 			lose(c);
@@ -151,6 +163,9 @@ export function createChangeFeed(
 	return {
 		get live() {
 			return live;
+		},
+		get heardUpTo() {
+			return live ? heardUpTo : 0;
 		},
 		subscribe(fn) {
 			subscribers.add(fn);

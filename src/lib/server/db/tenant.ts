@@ -18,7 +18,9 @@ export interface ShopRef {
 export async function withShop<T>(
 	shop: ShopRef,
 	fn: (trx: Knex.Transaction) => Promise<T>,
-	conn: Knex = db()
+	conn: Knex = db(),
+	/** e.g. a consistent read-only snapshot for an export (set before the first query). */
+	options?: Pick<Knex.TransactionConfig, 'isolationLevel' | 'readOnly'>
 ): Promise<T> {
 	assertShopSchema(shop.schemaName);
 	// SvelteKit's redirect() is thrown; thrown inside the transaction it would roll back the work
@@ -36,7 +38,7 @@ export async function withShop<T>(
 			}
 			throw e;
 		}
-	});
+	}, options);
 	if (pending !== undefined) throw pending;
 	return result;
 }

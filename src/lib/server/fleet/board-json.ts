@@ -2,6 +2,7 @@ import { promisify } from 'node:util';
 import { gzip } from 'node:zlib';
 import { changeFeed, perProcess } from '../db/change-feed';
 import { withShop, type ShopRef } from '../db/tenant';
+import { boardAges } from '../shops/settings';
 import { fleetBoard } from './board';
 import { createBoardCache } from './board-cache';
 
@@ -26,7 +27,13 @@ const gzipAsync = promisify(gzip);
  */
 export function preparedFleetBoard(shop: ShopRef): Promise<PreparedBoard> {
 	const build = async (): Promise<PreparedBoard> => {
-		const json = utf8.encode(JSON.stringify(await withShop(shop, (trx) => fleetBoard(trx))));
+		const json = utf8.encode(
+			JSON.stringify(
+				await withShop(shop, async (trx) =>
+					fleetBoard(trx, new Date(), await boardAges(trx, shop.id))
+				)
+			)
+		);
 		const zipped = await gzipAsync(json);
 		return {
 			json,

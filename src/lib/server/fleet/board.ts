@@ -1,6 +1,7 @@
 import type { Knex } from 'knex';
 import { DEFAULT_POLICY } from '$lib/offsets';
 import type { FleetBoard, FleetMachine, Health, LastCheck } from '$lib/fleet';
+import { boardVerification } from '../readbacks/status';
 
 /**
  * The fleet board's data for one shop in a fixed number of set-based queries, however many
@@ -11,17 +12,22 @@ import type { FleetBoard, FleetMachine, Health, LastCheck } from '$lib/fleet';
  *      re-set, how many past their age — one statement of hash joins over whole tables (a
  *      LATERAL per machine re-scanned the small tables 200 times: 10 ms against 4 ms);
  *   2. unresolved findings counted per machine, severity and status;
- *   3. the newest background check.
+ *   3. registers in use by active setups not verified at the control (readbacks/status.ts);
+ *   4. the newest background check.
  * `trx` must be a shop transaction (withShop).
  *
  * Health is the worst of the stored findings (from the last background check) and what the
  * data says right now about staleness, so a reference re-set this morning shows as Stale on the
  * board before the nightly check has run.
  */
-export async function fleetBoard(trx: Knex.Transaction, now = new Date()): Promise<FleetBoard> {
-	// Engine defaults (shop policy, src/lib/offsets/policy.ts): the same ages the check uses.
-	const toolDays = DEFAULT_POLICY.inch.toolMaxAgeDays;
-	const workDays = DEFAULT_POLICY.inch.workMaxAgeDays;
+export async function fleetBoard(
+	trx: Knex.Transaction,
+	now = new Date(),
+	/** The shop's own age limits (settings; see boardAges), else the engine's defaults. */
+	ages: { toolDays?: number; workDays?: number } = {}
+): Promise<FleetBoard> {
+	const toolDays = ages.toolDays ?? DEFAULT_POLICY.inch.toolMaxAgeDays;
+	const workDays = ages.workDays ?? DEFAULT_POLICY.inch.workMaxAgeDays;
 	const machines = await trx.raw(
 		`with ref as (
 			select distinct on (machine_id) machine_id, version, established_at
@@ -67,6 +73,7 @@ export async function fleetBoard(trx: Knex.Transaction, now = new Date()): Promi
 		.whereNot('status', 'resolved')
 		.orderBy('first_seen_at')
 		.select('machine_id', 'subject', 'message');
+	const atControl = await boardVerification(trx);
 
 	const [run] = await trx('check_runs')
 		.orderBy('started_at', 'desc')
@@ -136,7 +143,8 @@ export async function fleetBoard(trx: Knex.Transaction, now = new Date()): Promi
 			referenceVersion: m.reference_version === null ? null : Number(m.reference_version),
 			overrides: overrides
 				.filter((o) => Number(o.machine_id) === id)
-				.map((o) => ({ subject: String(o.subject), message: String(o.message) }))
+				.map((o) => ({ subject: String(o.subject), message: String(o.message) })),
+			atControl: atControl.get(id) ?? { inUse: 0, unverified: 0, mismatched: 0 }
 		};
 	});
 

@@ -4,6 +4,7 @@ import { db } from '../db';
 import { withShop } from '../db/tenant';
 import { machineState, toMachineRecord } from '../offsets/machine-state';
 import type { ShopRow } from '../shops/queries';
+import { readbackFindings, readbackHours } from '../readbacks/findings';
 
 /**
  * The background offset check of one shop (issue 7): the engine's `checkOffsets` (through
@@ -86,10 +87,18 @@ export async function runShopCheck(
 				const state = await machineState(trx, machine, checkedAt);
 				const names = new Map<string, string>();
 				for (const s of state.checkInput.setups ?? []) if (s.id && s.name) names.set(s.id, s.name);
+				// Read-backs at the control (issue 16): mismatches and registers not verified in time.
+				const readback = await readbackFindings(
+					trx,
+					machine,
+					checkedAt,
+					await readbackHours(trx, shop.id)
+				);
+				const found = [...state.findings, ...readback];
 				return storeFindings(
 					trx,
 					machine.id,
-					state.findings,
+					found,
 					checkedAt,
 					{ comment: `no longer found by the check at ${stamp}` },
 					names
@@ -180,7 +189,9 @@ export async function storeFindings(
 	findings: Finding[],
 	checkedAt: Date,
 	note: ResolveNote,
-	setupNames: Map<string, string>
+	setupNames: Map<string, string>,
+	/** Only these kinds are resolved when no longer found (a read-back sees only its own). */
+	onlyKinds?: readonly string[]
 ): Promise<{ opened: number; stillOpen: number; resolved: number }> {
 	// The engine may name one problem twice (e.g. two setups sharing a pair): one row per key.
 	const unique = [...new Map(findings.map((f) => [findingRowKey(machineId, f), f])).entries()];
@@ -234,6 +245,7 @@ export async function storeFindings(
 		.where('last_seen_at', '<', checkedAt)
 		.modify((q) => {
 			if (found.length > 0) q.whereNotIn('key', found);
+			if (onlyKinds) q.whereIn('kind', [...onlyKinds]);
 		})
 		.update({
 			status: 'resolved',

@@ -138,7 +138,7 @@ export function renderDigest(
 	const base = `${config.origin}/shops/${shop.slug}`;
 	const fresh = findings.filter((f) => f.isNew).length;
 	const stops = findings.filter((f) => f.severity === 'stop').length;
-	const subject = `${shop.name}: ${findings.length} finding${findings.length === 1 ? '' : 's'} to look at${stops ? ` (${stops} stop)` : ''} — ${day}`;
+	const subject = `${shop.name}: ${findings.length} finding${findings.length === 1 ? '' : 's'} to look at${stops ? ` (${stops} marked Stop)` : ''} — ${day}`;
 	const groups = new Map<number, DigestFinding[]>();
 	for (const f of findings) groups.set(f.machineId, [...(groups.get(f.machineId) ?? []), f]);
 

@@ -1,6 +1,15 @@
 import type { Knex } from 'knex';
 import { machineState, type MachineRecord } from '../offsets/machine-state';
 import { storeFindings } from './check';
+import { readbackFindings, DEFAULT_READBACK_HOURS } from '../readbacks/findings';
+
+/** The read-back hours of the shop whose schema this transaction is in. */
+async function shopReadbackHours(trx: Knex.Transaction): Promise<number> {
+	const row = await trx('public.shops')
+		.whereRaw('schema_name = current_schema()')
+		.first('readback_hours');
+	return row?.readback_hours ?? DEFAULT_READBACK_HOURS;
+}
 
 /**
  * Findings follow the data: after a write that changes a machine's offsets, readings or
@@ -16,6 +25,9 @@ export async function recheckMachine(
 	now = new Date()
 ) {
 	const state = await machineState(trx, machine, now);
+	// Read-back findings are part of the machine's checks: a new reading changes what the
+	// control should hold, so a mismatch of the old value goes and an unverified one may come.
+	const readback = await readbackFindings(trx, machine, now, await shopReadbackHours(trx));
 	const names = new Map<string, string>();
 	for (const s of state.checkInput.setups ?? []) if (s.id && s.name) names.set(s.id, s.name);
 	const at = now.toLocaleTimeString('en-GB', {
@@ -27,7 +39,7 @@ export async function recheckMachine(
 	return storeFindings(
 		trx,
 		machine.id,
-		state.findings,
+		[...state.findings, ...readback],
 		now,
 		{ comment: `resolved by ${cause.what} at ${at}${zone}`, by: cause.by ?? null },
 		names

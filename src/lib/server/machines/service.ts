@@ -6,8 +6,11 @@ import { assertCanAddMachine } from '../billing/gate';
 import type { ShopRef } from '../db/tenant';
 import { enterShop } from '../db/roles';
 
-type NewMachine = z.infer<typeof newMachineSchema>;
-type MachineEdit = z.infer<typeof machineFormSchema>;
+/** The extended work offset settings may be left out (0, addressed as G54.1 P). */
+type ExtendedOptional<T> = Omit<T, 'extendedWorkOffsets' | 'extendedAddress'> &
+	Partial<Pick<z.infer<typeof machineFormSchema>, 'extendedWorkOffsets' | 'extendedAddress'>>;
+type NewMachine = ExtendedOptional<z.infer<typeof newMachineSchema>>;
+type MachineEdit = ExtendedOptional<z.infer<typeof machineFormSchema>>;
 export interface Actor {
 	id: number;
 	email: string;
@@ -44,6 +47,8 @@ export async function createMachine(
 					z_travel: input.zTravel,
 					resolution: input.resolution,
 					control_style: input.controlStyle,
+					extended_work_offsets: input.extendedWorkOffsets ?? 0,
+					extended_address: input.extendedAddress ?? 'G54.1 P',
 					convention: input.convention,
 					notes: input.notes
 				})
@@ -105,14 +110,20 @@ export async function updateMachine(
 	}
 	try {
 		await trx.raw('savepoint machine_update');
-		await trx('machines').where({ id: machineId }).update({
-			name: input.name,
-			units: input.units,
-			z_travel: input.zTravel,
-			resolution: input.resolution,
-			control_style: input.controlStyle,
-			notes: input.notes
-		});
+		await trx('machines')
+			.where({ id: machineId })
+			.update({
+				name: input.name,
+				units: input.units,
+				z_travel: input.zTravel,
+				resolution: input.resolution,
+				control_style: input.controlStyle,
+				...(input.extendedWorkOffsets !== undefined
+					? { extended_work_offsets: input.extendedWorkOffsets }
+					: {}),
+				...(input.extendedAddress !== undefined ? { extended_address: input.extendedAddress } : {}),
+				notes: input.notes
+			});
 		await trx.raw('release savepoint machine_update');
 	} catch (e) {
 		await trx.raw('rollback to savepoint machine_update');

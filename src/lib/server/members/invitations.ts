@@ -1,5 +1,5 @@
 import type { Knex } from 'knex';
-import type { Role } from '$lib/permissions';
+import { roleWithArticle, type Role } from '$lib/permissions';
 import { audit } from '../audit';
 import { hashToken, newToken } from '../auth/tokens';
 import { config } from '../config';
@@ -58,7 +58,7 @@ async function mailInvitation(
 	const mail = renderEmail({
 		subject: `${by.name} invited you to ${shop.name} on Datumkeep`,
 		paragraphs: [
-			`${by.name} (${by.email}) invited you to join ${shop.name} on Datumkeep as ${role === 'admin' ? 'an' : 'a'} ${role}.`,
+			`${by.name} (${by.email}) invited you to join ${shop.name} on Datumkeep as ${roleWithArticle(role)}.`,
 			`The link works once and expires in ${INVITATION_DAYS} days. If you did not expect this, ignore this e-mail.`
 		],
 		action: { label: 'Accept the invitation', url }

@@ -3,6 +3,7 @@ import { endAllSessions } from '../users';
 import type { Role } from '$lib/permissions';
 import { audit } from '../audit';
 import { withShop, type ShopRef } from '../db/tenant';
+import { logLifecycle } from '../shops/lifecycle';
 import type { Actor } from './invitations';
 import { enterShop } from '../db/roles';
 
@@ -19,7 +20,8 @@ export async function listMembers(knex: Knex, shopId: number): Promise<MemberVie
 	const rows = await knex('public.memberships as m')
 		.join('public.users as u', 'u.id', 'm.user_id')
 		.where('m.shop_id', shopId)
-		.orderByRaw("array_position(array['owner','admin','lead','operator'], m.role), u.name")
+		// By name, not by role: a role change must not move the row under the pointer (issue 18).
+		.orderByRaw('lower(u.name), m.id')
 		.select('m.id', 'u.id as user_id', 'u.name', 'u.email', 'm.role', 'm.created_at');
 	return rows.map((r) => ({
 		membershipId: Number(r.id),
@@ -31,7 +33,7 @@ export async function listMembers(knex: Knex, shopId: number): Promise<MemberVie
 	}));
 }
 
-export type MemberChangeResult = { ok: true } | { ok: false; message: string };
+export type MemberChangeResult = { ok: true; name?: string } | { ok: false; message: string };
 
 /**
  * Locks the shop's owner memberships (so two demotions or removals cannot both see "another
@@ -42,12 +44,11 @@ async function lockOwnersAndFind(trx: Knex.Transaction, shop: ShopRef, membershi
 		.where({ shop_id: shop.id, role: 'owner' })
 		.forUpdate()
 		.select('id');
-	const target: { role: Role; email: string; user_id: number } | undefined = await trx(
-		'public.memberships as m'
-	)
-		.join('public.users as u', 'u.id', 'm.user_id')
-		.where({ 'm.id': membershipId, 'm.shop_id': shop.id })
-		.first('m.role', 'u.email', 'm.user_id');
+	const target: { role: Role; email: string; user_id: string; name: string } | undefined =
+		await trx('public.memberships as m')
+			.join('public.users as u', 'u.id', 'm.user_id')
+			.where({ 'm.id': membershipId, 'm.shop_id': shop.id })
+			.first('m.role', 'u.email', 'u.id as user_id', 'u.name');
 	return { ownerCount: owners.length, target };
 }
 
@@ -109,6 +110,16 @@ export async function removeMember(
 			return { ok: false, message: `${target.email} is the last owner and cannot be removed.` };
 		}
 		await trx('public.memberships').where({ id: membershipId }).del();
+		// Remembered in public so the removed person is told why the shop is gone from them.
+		const { slug } = await trx('public.shops').where({ id: shop.id }).first('slug');
+		await logLifecycle(trx, {
+			shopId: shop.id,
+			shopSlug: slug,
+			action: 'member.removed',
+			actorUserId: by.id,
+			actorEmail: by.email,
+			detail: { userId: Number(target.user_id), email: target.email, role: target.role }
+		});
 		// Their open sessions end at once (session generation), not only this shop's access.
 		await endAllSessions(trx, Number(target.user_id));
 		await enterShop(trx, shop.schemaName);
@@ -120,17 +131,29 @@ export async function removeMember(
 			detail: { role: target.role },
 			ip
 		});
-		return { ok: true };
+		return { ok: true, name: target.name };
 	});
 }
 
-export async function readAuditLog(shop: ShopRef, limit = 200) {
+export interface AuditFilter {
+	/** The actor's e-mail, exactly as logged. */
+	actor?: string;
+	/** The entry's kind (action code). */
+	action?: string;
+	limit?: number;
+}
+
+/** Newest first, optionally one person's and/or one kind's entries. */
+export async function readAuditLog(shop: ShopRef, filter: AuditFilter = {}) {
 	return withShop(shop, async (trx) => {
-		const rows = await trx('audit_log')
+		const q = trx('audit_log')
 			.orderBy('at', 'desc')
 			.orderBy('id', 'desc')
-			.limit(limit)
+			.limit(filter.limit ?? 200)
 			.select('*');
+		if (filter.actor) q.where('actor_email', filter.actor);
+		if (filter.action) q.where('action', filter.action);
+		const rows = await q;
 		return rows.map((r) => ({
 			id: Number(r.id),
 			at: new Date(r.at).toISOString(),
@@ -140,5 +163,16 @@ export async function readAuditLog(shop: ShopRef, limit = 200) {
 			detail: r.detail as Record<string, unknown>,
 			ip: r.ip as string
 		}));
+	});
+}
+
+/** The people and kinds that occur in the shop's log, for the filter lists. */
+export async function auditFilterOptions(shop: ShopRef) {
+	return withShop(shop, async (trx) => {
+		const [actors, actions] = await Promise.all([
+			trx('audit_log').distinct('actor_email').orderBy('actor_email').pluck('actor_email'),
+			trx('audit_log').distinct('action').orderBy('action').pluck('action')
+		]);
+		return { actors: actors.filter(Boolean) as string[], actions: actions as string[] };
 	});
 }

@@ -1,9 +1,11 @@
 import type { Knex } from 'knex';
+import { shopPolicy } from '../shops/settings';
 import {
 	checkOffsets,
 	type CheckInput,
 	type Convention,
 	type ControlStyle,
+	type ExtendedAddressForm,
 	type Finding,
 	type HistoryEntry,
 	type Machine,
@@ -26,6 +28,9 @@ export interface MachineRecord {
 	notes: string;
 	createdAt: string;
 	hasPhoto: boolean;
+	/** How many extended work offsets the control has (0–48) and how its programs address them. */
+	extendedWorkOffsets: number;
+	extendedAddress: ExtendedAddressForm;
 }
 
 export interface ReferenceRecord {
@@ -67,7 +72,9 @@ export function toMachineRecord(r: Record<string, unknown>): MachineRecord {
 		masterToolH: num(r.master_tool_h),
 		notes: String(r.notes ?? ''),
 		createdAt: iso(r.created_at),
-		hasPhoto: Boolean(r.photo_key)
+		hasPhoto: Boolean(r.photo_key),
+		extendedWorkOffsets: Number(r.extended_work_offsets ?? 0),
+		extendedAddress: (r.extended_address as ExtendedAddressForm | undefined) ?? 'G54.1 P'
 	};
 }
 
@@ -90,6 +97,8 @@ export function engineMachine(m: MachineRecord): Machine {
 		resolution: m.resolution,
 		convention: m.convention,
 		controlStyle: m.controlStyle,
+		extendedWorkOffsets: m.extendedWorkOffsets,
+		extendedAddress: m.extendedAddress,
 		...(m.masterToolH ? { masterTool: String(m.masterToolH) } : {})
 	};
 }
@@ -328,6 +337,8 @@ export async function machineState(
 	};
 	const checkInput: CheckInput = {
 		machine: engineMachine(machine),
+		// The shop's own limits (settings page); fields it left empty are the engine's defaults.
+		policy: await shopPolicy(trx),
 		table,
 		history,
 		now: now.toISOString(),

@@ -4,6 +4,7 @@ import { requireMember } from '../guard';
 import { setupFromParam } from '../setups/load';
 import { getProgram, uploadProgram } from './store';
 import { enqueueProgramCheck } from './queue';
+import { recheckVersion } from './recheck';
 import { runQueuedCheck } from './run';
 
 /** A short result line for the program forms. */
@@ -76,4 +77,43 @@ export async function runNowAction(event: RequestEvent) {
 				outcome.status === 'done' ? 'Checked.' : 'Already taken by the background worker or done.'
 		}
 	};
+}
+
+/**
+ * Checks a version again in the dialect chosen on the form (ISO-style or RS274NGC-style), then
+ * shows that version with its new check.
+ */
+export async function recheckAction(event: RequestEvent) {
+	const { shop, user } = await requireMember(event, 'setups.write');
+	const data = await event.request.formData();
+	const dialect = String(data.get('dialect') ?? '');
+	const versionNo = Number(data.get('version'));
+	if (dialect !== 'iso' && dialect !== 'rs274ngc')
+		return refused(
+			`Dialect "${dialect.slice(0, 40)}" is not one the check knows: iso or rs274ngc.`
+		);
+	if (!Number.isSafeInteger(versionNo) || versionNo <= 0)
+		return refused('Which version? None was named.');
+	const result = await withShop(shop, async (trx) => {
+		const setup = await setupFromParam(trx, event.params.setup);
+		const program = await getProgram(trx, setup.id, event.params.program);
+		if (!program) return { ok: false as const, message: 'No such program on this setup.' };
+		const v = await trx('program_versions')
+			.where({ program_id: program.id, version: versionNo })
+			.first('id');
+		if (!v) return { ok: false as const, message: 'No such version of this program.' };
+		return recheckVersion(trx, program.id, Number(v.id), dialect, user);
+	});
+	if (!result.ok) return refused(result.message, 404);
+	if (result.background) {
+		const queued = await enqueueProgramCheck({ shopId: shop.id, checkId: result.checkId });
+		if (!queued)
+			await withShop(shop, (trx) =>
+				trx('program_checks').where({ id: result.checkId }).update({ note: QUEUE_UNREACHABLE })
+			);
+	}
+	redirect(
+		303,
+		`/shops/${shop.slug}/setups/${event.params.setup}/programs/${event.params.program}?version=${versionNo}`
+	);
 }

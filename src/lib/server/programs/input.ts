@@ -102,7 +102,10 @@ export async function programSetupFor(
 				}
 			: {}),
 		toolRegisters,
-		registerStatus: { work, tools }
+		registerStatus: { work, tools },
+		// Dialect from the machine's control style (the engine's default); the picture of the
+		// tip's heights is kept with the result.
+		profile: true
 	};
 	const parsed = programSetupSchema.safeParse(programSetup);
 	if (!parsed.success) {

@@ -79,6 +79,12 @@ export function buildReport(r: ReportInput): { filename: string; text: string } 
 	out.push(
 		`- Units: machine ${m.units}, program ${s.units.program === null ? 'states none (no G20/G21)' : s.units.program}`,
 		`- Lines read: ${s.lines}; moves: ${s.moves}`,
+		`- Checked as: ${s.dialect.label} (${s.dialect.from === 'chosen' ? 'chosen for this check' : s.dialect.from === 'machine' ? "from the machine's control style" : 'the default'})`,
+		...(s.unknownSpans.length > 0
+			? [
+					`- Heights unknown (not checked): ${s.unknownSpans.map(([a, b]) => `lines ${a}–${b ?? 'end'}`).join(', ')}`
+				]
+			: []),
 		`- Clearance height: ${fmt(s.clearanceHeight)} above the reference (tallest obstacle + margin)`,
 		''
 	);

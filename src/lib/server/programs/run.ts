@@ -3,7 +3,7 @@ import { StringDecoder } from 'node:string_decoder';
 import type { Knex } from 'knex';
 import {
 	checkProgram,
-	createProgramChecker,
+	checkProgramStream,
 	type ProgramCheckResult,
 	type ProgramSetup
 } from '$lib/offsets';
@@ -24,32 +24,41 @@ export function checkWhole(text: string, setup: ProgramSetup): ProgramCheckResul
 
 /**
  * Streams a stored program through the engine's checker: memory stays flat however long the
- * file is. `onProgress(lines, bytes)` is awaited at most every PROGRESS_EVERY_MS.
+ * file is. The file is read a second time only when a subprogram is called before its body
+ * (ISO-style subprograms after M30). `onProgress(lines, bytes)` is awaited at most every
+ * PROGRESS_EVERY_MS.
  */
 export async function checkStream(
 	path: string,
 	setup: ProgramSetup,
 	onProgress: (lines: number, bytes: number) => Promise<void> = async () => {}
 ): Promise<ProgramCheckResult> {
-	const checker = createProgramChecker(setup);
-	const decoder = new StringDecoder('utf8');
 	let bytes = 0;
 	let last = Date.now();
-	for await (const chunk of createReadStream(path, { highWaterMark: 256 * 1024 })) {
-		checker.push(decoder.write(chunk as Buffer));
-		bytes += (chunk as Buffer).length;
-		if (Date.now() - last >= PROGRESS_EVERY_MS) {
-			await onProgress(checker.lines, bytes);
-			last = Date.now();
+	async function* read(): AsyncIterable<string> {
+		const decoder = new StringDecoder('utf8');
+		bytes = 0;
+		for await (const chunk of createReadStream(path, { highWaterMark: 256 * 1024 })) {
+			bytes += (chunk as Buffer).length;
+			yield decoder.write(chunk as Buffer);
 		}
+		const rest = decoder.end();
+		if (rest) yield rest;
 	}
-	const rest = decoder.end();
-	if (rest) checker.push(rest);
-	return checker.end();
+	return checkProgramStream(read, setup, async (lines) => {
+		if (Date.now() - last < PROGRESS_EVERY_MS) return;
+		last = Date.now();
+		await onProgress(lines, bytes);
+	});
 }
 
-/** Stop and caution findings kept in the result (stats.suppressed says how many more). */
+/**
+ * Stop and caution findings found (kept or not: a stop is never hidden behind capped
+ * cautions). Results stored before stats.severityCounts existed count the kept findings.
+ */
 export function severityCounts(result: ProgramCheckResult): { stops: number; cautions: number } {
+	const counts = result.stats.severityCounts;
+	if (counts) return { stops: counts.stop, cautions: counts.caution };
 	const stops = result.findings.filter((f) => f.severity === 'stop').length;
 	return { stops, cautions: result.findings.length - stops };
 }

@@ -44,6 +44,10 @@ export interface CheckSummary {
 	stops: number;
 	cautions: number;
 	suppressed: number;
+	/** The dialect the check used, its plain name, and where it came from. */
+	dialect: { code: 'iso' | 'rs274ngc'; label: string; from: 'chosen' | 'machine' | 'default' };
+	/** [from, until] line spans whose heights the check could not follow (until null: the end). */
+	unknownSpans: [number, number | null][];
 }
 
 const list = (s: RegisterState | RegisterState[] | undefined): RegisterState[] =>
@@ -88,7 +92,12 @@ export function summarize(input: CheckInput, result: ProgramCheckResult): CheckS
 			tipZ: stats.tipZRange[t] ?? null
 		};
 	});
-	const stops = result.findings.filter((f) => f.severity === 'stop').length;
+	const kept = result.findings.filter((f) => f.severity === 'stop').length;
+	const counts = stats.severityCounts ?? {
+		stop: kept,
+		caution: result.findings.length - kept
+	};
+	const code = stats.dialect ?? ps.dialect ?? ps.machine.controlStyle ?? 'rs274ngc';
 	return {
 		units: stats.units,
 		resolution: ps.machine.resolution ?? (ps.machine.units === 'inch' ? 0.0001 : 0.001),
@@ -98,9 +107,15 @@ export function summarize(input: CheckInput, result: ProgramCheckResult): CheckS
 		tools,
 		clearanceHeight: stats.clearanceHeight,
 		clearancePlanes: stats.clearancePlanes,
-		stops,
-		cautions: result.findings.length - stops,
-		suppressed: stats.suppressed
+		stops: counts.stop,
+		cautions: counts.caution,
+		suppressed: stats.suppressed,
+		dialect: {
+			code,
+			label: code === 'iso' ? 'ISO-style' : 'RS274NGC-style',
+			from: stats.dialectFrom ?? (ps.machine.controlStyle ? 'machine' : 'default')
+		},
+		unknownSpans: stats.unknownSpans ?? []
 	};
 }
 

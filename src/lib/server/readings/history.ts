@@ -29,7 +29,10 @@ export interface RecordRow {
 	correctedByReadingId: number | null;
 	referenceVersion: number;
 	by: string | null;
+	/** When the server recorded it. */
 	at: string;
+	/** When the operator measured, by the device's clock, for a reading queued offline (else null). */
+	measuredAt: string | null;
 }
 
 const n = (v: unknown) => (v === null || v === undefined ? null : Number(v));
@@ -55,7 +58,8 @@ function toRow(r: Record<string, unknown>, machine: MachineRecord): RecordRow {
 		correctedByReadingId: n(r.corrected_by),
 		referenceVersion: Number(r.reference_version),
 		by: (r.by_name as string) ?? null,
-		at: new Date(r.at as string).toISOString()
+		at: new Date(r.at as string).toISOString(),
+		measuredAt: r.measured_at ? new Date(r.measured_at as string).toISOString() : null
 	};
 }
 
@@ -68,6 +72,7 @@ const READING_COLUMNS = [
 	'r.tool_changed',
 	'r.reason',
 	'r.corrects_reading_id',
+	'r.measured_at',
 	't.t_number as tool_t',
 	'f.register as fixture_register'
 ];

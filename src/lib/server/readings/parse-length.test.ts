@@ -13,6 +13,8 @@ const mill = (units: 'inch' | 'mm', resolution: number): MachineRecord => ({
 	controlStyle: 'iso',
 	convention: 'reference-touch',
 	masterToolH: null,
+	extendedWorkOffsets: 0,
+	extendedAddress: 'G54.1 P',
 	notes: '',
 	createdAt: '2026-12-01T00:00:00Z',
 	hasPhoto: false

@@ -702,7 +702,7 @@ function requireOverride(machine: MachineRecord, preview: ReadingPreview, o: Ove
 	);
 }
 
-async function writeReadingAndOffset(
+export async function writeReadingAndOffset(
 	trx: Knex.Transaction,
 	machine: MachineRecord,
 	actor: Actor,
@@ -827,7 +827,7 @@ async function recordOverride(
 	);
 }
 
-const instrumentText = (through: TouchThrough, block: number, machine: MachineRecord) =>
+export const instrumentText = (through: TouchThrough, block: number, machine: MachineRecord) =>
 	through === 'directly'
 		? 'directly'
 		: `${through} ${formatWithUnits(block, machine.units, machine.resolution)}`;

@@ -6,6 +6,8 @@ export interface ShopRow extends ShopRef {
 	slug: string;
 	name: string;
 	timeZone: string;
+	/** Set while the shop waits out its deletion grace period (read-only until restored). */
+	deletionPurgeAfter?: string | null;
 }
 
 export interface MembershipView {
@@ -19,13 +21,15 @@ function toShop(r: {
 	name: string;
 	schema_name: string;
 	time_zone: string;
+	purge_after?: Date | string | null;
 }): ShopRow {
 	return {
 		id: Number(r.id),
 		slug: r.slug,
 		name: r.name,
 		schemaName: r.schema_name,
-		timeZone: r.time_zone
+		timeZone: r.time_zone,
+		deletionPurgeAfter: r.purge_after ? new Date(r.purge_after).toISOString() : null
 	};
 }
 
@@ -38,7 +42,7 @@ export async function findMembership(
 	const row = await knex('public.memberships as m')
 		.join('public.shops as s', 's.id', 'm.shop_id')
 		.where({ 'm.user_id': userId, 's.slug': slug })
-		.first('s.id', 's.slug', 's.name', 's.schema_name', 's.time_zone', 'm.role');
+		.first('s.id', 's.slug', 's.name', 's.schema_name', 's.time_zone', 's.purge_after', 'm.role');
 	return row ? { shop: toShop(row), role: row.role } : undefined;
 }
 

@@ -145,6 +145,19 @@ export async function addFixture(
 	by: Actor,
 	ip = ''
 ): Promise<ServiceResult> {
+	// Extended work offsets: only as many as the machine is set to have (issue 16).
+	const extended = /^G54\.1 P(\d+)$/.exec(f.register);
+	if (extended) {
+		const m = await trx('machines')
+			.where({ id: machineId })
+			.first('name', 'extended_work_offsets', 'extended_address');
+		if (m && Number(extended[1]) > m.extended_work_offsets)
+			return {
+				ok: false,
+				field: 'register',
+				message: `${m.name} is set to have ${m.extended_work_offsets} extended work offsets (${m.extended_address}1…), so ${f.register} is not one of its registers. Change the machine's settings if the control has more.`
+			};
+	}
 	const clash = await trx('fixtures')
 		.where({ machine_id: machineId, register: f.register })
 		.whereNull('archived_at')

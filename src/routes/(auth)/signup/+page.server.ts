@@ -21,10 +21,10 @@ export const actions: Actions = {
 		if (!form.valid) return fail(400, { form });
 		const slug = form.data.shopSlug || slugify(form.data.shopName);
 		if (!/^[a-z0-9]([a-z0-9-]{0,46}[a-z0-9])$/.test(slug)) {
-			return setError(form, 'shopSlug', `Choose a shop address: ${SLUG_RULE}.`);
+			return setError(form, 'shopSlug', `Choose a web address for the shop: ${SLUG_RULE}.`);
 		}
 		if (await slugTaken(db(), slug)) {
-			return setError(form, 'shopSlug', `The address "${slug}" is taken; choose another.`);
+			return setError(form, 'shopSlug', `The web address "${slug}" is taken; choose another.`);
 		}
 		if (await findUserByEmail(db(), form.data.email)) {
 			return setError(
@@ -43,7 +43,11 @@ export const actions: Actions = {
 		} catch (e) {
 			// Two sign-ups racing for one address: the unique index decides, nothing was kept.
 			if ((e as { code?: string }).code === '23505') {
-				return setError(form, 'shopSlug', `The address "${slug}" was just taken; choose another.`);
+				return setError(
+					form,
+					'shopSlug',
+					`The web address "${slug}" was just taken; choose another.`
+				);
 			}
 			throw e;
 		}

@@ -8,13 +8,16 @@ import { clientAddress } from '$lib/server/auth/client-address';
 import { db } from '$lib/server/db';
 import { withShop } from '$lib/server/db/tenant';
 import { fleetBoard } from '$lib/server/fleet/board';
+import { boardAges } from '$lib/server/shops/settings';
 import { requireMember } from '$lib/server/guard';
 import { ChecksPausedError, enqueueCheckNow, rescheduleShop } from '$lib/server/queues/shop-checks';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const { shop, role } = await requireMember(event, 'findings.read');
-	const board = await withShop(shop, (trx) => fleetBoard(trx));
+	const board = await withShop(shop, async (trx) =>
+		fleetBoard(trx, new Date(), await boardAges(trx, shop.id))
+	);
 	const { check_hour } = await db()('public.shops').where({ id: shop.id }).first('check_hour');
 	return {
 		board,

@@ -5,8 +5,9 @@ import {
 	changeRoleSchema,
 	invitationIdSchema,
 	inviteSchema,
-	removeMemberSchema
+	confirmRemoveSchema
 } from '$lib/schemas/members';
+import { roleWithArticle } from '$lib/permissions';
 import { clientAddress } from '$lib/server/auth/client-address';
 import { db } from '$lib/server/db';
 import { requireMember } from '$lib/server/guard';
@@ -26,7 +27,14 @@ export const load: PageServerLoad = async (event) => {
 		listPendingInvitations(db(), shop.id),
 		superValidate(zod4(inviteSchema), { id: 'invite' })
 	]);
-	return { members, invitations, form, myRole: role, myUserId: user.id };
+	return {
+		members,
+		invitations,
+		form,
+		myRole: role,
+		myUserId: user.id,
+		transferredTo: event.url.searchParams.get('transferred')
+	};
 };
 
 /** Row actions answer with a short result line for the row's form. */
@@ -60,7 +68,10 @@ export const actions: Actions = {
 				`Invitation for ${form.data.email} saved, but the e-mail was not sent: the mail service did not answer. Use Resend in Pending invitations to send it.`,
 				{ status: 503 }
 			);
-		return message(form, `Invitation sent to ${form.data.email} as ${form.data.role}.`);
+		return message(
+			form,
+			`Invitation sent to ${form.data.email} as ${roleWithArticle(form.data.role)}.`
+		);
 	},
 	changeRole: async (event) => {
 		const me = await requireMember(event, 'members.manage');
@@ -78,7 +89,8 @@ export const actions: Actions = {
 	},
 	remove: async (event) => {
 		const me = await requireMember(event, 'members.manage');
-		const form = await superValidate(await event.request.formData(), zod4(removeMemberSchema));
+		// The page asks first, naming the person; a post without the confirmation changes nothing.
+		const form = await superValidate(await event.request.formData(), zod4(confirmRemoveSchema));
 		if (!form.valid) return rowResult(false, Object.values(form.errors).flat().join(' '));
 		const r = await removeMember(
 			db(),
@@ -87,7 +99,9 @@ export const actions: Actions = {
 			{ ...me.user, role: me.role },
 			clientAddress(event)
 		);
-		return r.ok ? rowResult(true, 'Member removed.') : rowResult(false, r.message, 409);
+		return r.ok
+			? rowResult(true, `${r.name} was removed and no longer has access to ${me.shop.name}.`)
+			: rowResult(false, r.message, 409);
 	},
 	resend: async (event) => {
 		const { shop, user } = await requireMember(event, 'members.manage');

@@ -6,18 +6,22 @@ import { clientAddress } from '$lib/server/auth/client-address';
 import { db } from '$lib/server/db';
 import { requireMember } from '$lib/server/guard';
 import { createMachine } from '$lib/server/machines/service';
+import { defaultUnits } from '$lib/server/shops/settings';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	await requireMember(event, 'machines.write');
+	const { shop } = await requireMember(event, 'machines.write');
+	// The shop's default units (settings page); a 1-2-3 block is 3 in = 76.2 mm (NIST SP 811:
+	// 1 in = 25.4 mm exactly), at the control's least increment (common shop practice).
+	const metric = (await defaultUnits(db(), shop.id)) === 'mm';
 	const form = await superValidate(
 		{
-			units: 'inch',
-			resolution: 0.0001,
+			units: metric ? 'mm' : 'inch',
+			resolution: metric ? 0.001 : 0.0001,
 			controlStyle: 'iso',
 			convention: 'reference-touch',
 			instrument: '1-2-3 block',
-			height: 3
+			height: metric ? 76.2 : 3
 		},
 		zod4(newMachineSchema),
 		{ errors: false }

@@ -23,6 +23,8 @@ export const load: PageServerLoad = async (event) => {
 				zTravel: machine.zTravel,
 				resolution: machine.resolution,
 				controlStyle: machine.controlStyle,
+				extendedWorkOffsets: machine.extendedWorkOffsets,
+				extendedAddress: machine.extendedAddress,
 				convention: machine.convention,
 				notes: machine.notes
 			},

@@ -1,7 +1,7 @@
 import { can } from '$lib/permissions';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
-import { runNowAction, uploadAction } from '$lib/server/programs/actions';
+import { recheckAction, runNowAction, uploadAction } from '$lib/server/programs/actions';
 import {
 	BACKGROUND_MIN_BYTES,
 	BACKGROUND_MIN_LINES,
@@ -9,6 +9,7 @@ import {
 	PROGRAM_MAX_BYTES
 } from '$lib/server/programs/file';
 import { programFromParams, versionResult } from '$lib/server/programs/load';
+import { profileView } from '$lib/server/programs/profile-view';
 import { findingLine, KIND_LABEL, summarize } from '$lib/server/programs/summary';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -35,6 +36,7 @@ export const load: PageServerLoad = async (event) => {
 			version,
 			check: detail?.check ?? null,
 			summary: detail && result ? summarize(detail.input, result) : null,
+			profile: detail && result ? profileView(detail.input, result) : null,
 			findings: (result?.findings ?? []).map((f) => {
 				const line = findingLine(f);
 				return {
@@ -60,5 +62,6 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	upload: (event) => uploadAction(event, event.params.program),
-	runNow: (event) => runNowAction(event)
+	runNow: (event) => runNowAction(event),
+	recheck: (event) => recheckAction(event)
 };

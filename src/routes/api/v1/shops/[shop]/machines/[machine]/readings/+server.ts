@@ -3,6 +3,7 @@ import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
 import { recentReadings, registerFromParam, registerHistory } from '$lib/server/readings/history';
+import { queuedReadingPost } from '$lib/server/readings/queued-post';
 import type { RequestHandler } from './$types';
 import { numberTextMessage, readNumberText } from '$lib/offsets/number-text';
 
@@ -43,4 +44,14 @@ export const GET: RequestHandler = async (event) => {
 		{ ...body, asOf: new Date().toISOString() },
 		{ headers: { 'cache-control': 'no-store' } }
 	);
+};
+
+/**
+ * A reading queued on a device while offline, sent now (JSON, see $lib/schemas/queued-reading):
+ * 201 recorded, 200 already recorded under this key, 409 not recorded (Stop: the operator
+ * decides), 400 refused with the field and why. Same capability as the reading forms.
+ */
+export const POST: RequestHandler = async (event) => {
+	const member = await requireMember(event, 'setups.write');
+	return queuedReadingPost(event, member);
 };

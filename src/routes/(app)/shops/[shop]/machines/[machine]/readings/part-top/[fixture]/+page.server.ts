@@ -7,6 +7,7 @@ import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
 import { machineOverview } from '$lib/server/offsets/overview';
 import { actorOf, refuse } from '$lib/server/readings/form';
+import { prefillReading } from '$lib/server/readings/prefill';
 import {
 	findFixture,
 	previewPartTopReading,
@@ -71,6 +72,7 @@ export const load: PageServerLoad = async (event) => {
 		const form = await superValidate(
 			{
 				withToolId: String(defaultTool),
+				...prefillReading(event.url),
 				correctsReadingId: corrects ? String(corrects.id) : ''
 			},
 			zod4(partTopReadingSchema),

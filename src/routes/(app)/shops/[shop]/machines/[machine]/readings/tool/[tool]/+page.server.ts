@@ -7,6 +7,7 @@ import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
 import { machineOverview } from '$lib/server/offsets/overview';
 import { actorOf, refuse } from '$lib/server/readings/form';
+import { prefillReading } from '$lib/server/readings/prefill';
 import { findTool, previewToolReading, recordToolReading } from '$lib/server/readings/record';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -50,7 +51,11 @@ export const load: PageServerLoad = async (event) => {
 		);
 		const changed = event.url.searchParams.get('changed') === '1';
 		const form = await superValidate(
-			{ toolChanged: changed, correctsReadingId: corrects ? String(corrects.id) : '' },
+			{
+				...prefillReading(event.url),
+				toolChanged: changed,
+				correctsReadingId: corrects ? String(corrects.id) : ''
+			},
 			zod4(toolReadingSchema),
 			{ errors: false }
 		);

@@ -46,7 +46,12 @@ export const load: PageServerLoad = async (event) => {
 			if (n === null || n < from || n > to) continue;
 			(marks[n] ??= []).push({ severity: f.severity, label: KIND_LABEL[f.kind] ?? f.kind });
 		}
+		// Lines inside a "heights unknown" span (the check could not follow them).
+		const unknown: Record<number, true> = {};
+		for (const [a, b] of detail?.result?.stats.unknownSpans ?? [])
+			for (let n = Math.max(a, from); n <= Math.min(b ?? to, to); n++) unknown[n] = true;
 		return {
+			unknown,
 			setup: { id: setup.id, name: setup.name },
 			program,
 			version: { version: version.version, originalName: version.originalName, lineCount: total },
