@@ -7,7 +7,11 @@ import { withShop } from '$lib/server/db/tenant';
 import { getMachine } from '$lib/server/offsets/machine-state';
 import { createShopWithOwner } from '$lib/server/shops/create';
 import { assignAssembly } from '$lib/server/tool-library/assign';
-import { importPresetterCsv, listAssemblies, saveMapping } from '$lib/server/tool-library/library';
+import { listAssemblies } from '$lib/server/tool-library/library';
+import {
+	importPresetterCsv,
+	saveMapping
+} from '$lib/server/tool-library/presetter-import';
 import { uniqueSuffix } from './db';
 
 /**

@@ -12,13 +12,11 @@ import { getMachine, type MachineRecord } from '$lib/server/offsets/machine-stat
 import { ReadingInputError } from '$lib/server/readings/input';
 import { provisionShop } from '$lib/server/shops/provision';
 import { assignAssembly, previewAssignment } from '$lib/server/tool-library/assign';
+import { addAssembly, getAssembly, listAssemblies } from '$lib/server/tool-library/library';
 import {
-	addAssembly,
-	getAssembly,
 	importPresetterCsv,
-	listAssemblies,
 	saveMapping
-} from '$lib/server/tool-library/library';
+} from '$lib/server/tool-library/presetter-import';
 import { testDb, uniqueSuffix } from './db';
 
 /**

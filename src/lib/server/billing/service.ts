@@ -6,16 +6,13 @@
 import type { Knex } from 'knex';
 import type Stripe from 'stripe';
 import { planByKey, type PlanKey } from '$lib/billing/plans';
+import type { Actor } from '../actor';
 import { audit } from '../audit';
+import { isoOrNull as iso } from '../db/convert';
 import { withShop, type ShopRef } from '../db/tenant';
 import { countActiveMachines, graceEndsAt, shopWriteState, type WriteState } from './gate';
 import { getShopBilling, machineLimit, type ShopBilling } from './state';
 import { priceIdFor, stripe } from './stripe';
-
-export interface Actor {
-	id: number;
-	email: string;
-}
 
 export interface InvoiceView {
 	id: string;
@@ -62,8 +59,6 @@ export function trialToKeep(b: ShopBilling, now: Date = new Date()): Date | null
 	if (running || b.status !== 'trialing') return null;
 	return b.trialEndsAt.getTime() - now.getTime() >= TRIAL_KEEP_MIN_MS ? b.trialEndsAt : null;
 }
-
-const iso = (d: Date | null) => (d ? d.toISOString() : null);
 
 /** Everything the billing page shows. No Stripe ids or secrets leave the server. */
 export async function billingOverview(knex: Knex, shop: ShopRef): Promise<BillingOverview> {

@@ -1,11 +1,10 @@
 import type { Knex } from 'knex';
 import type { ProgramCheckResult } from '$lib/offsets';
+import { isoOrNull as iso } from '../db/convert';
 import { storagePath } from '../setups/photos';
 import type { CheckInput } from './input';
 
 /** `trx` below is always a shop transaction (withShop). */
-
-const iso = (v: unknown) => (v ? new Date(v as string).toISOString() : null);
 
 export type CheckStatus = 'queued' | 'running' | 'done' | 'failed';
 

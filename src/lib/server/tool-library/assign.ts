@@ -27,7 +27,8 @@ import { ReadingInputError, type ReadingIssue } from '../readings/input';
 import { writeReadingAndOffset, type Recorded } from '../readings/record';
 import type { BriefFinding, ReadingPreview } from '$lib/reading-preview';
 import { activeHNumbers } from '../tools/service';
-import { getAssembly, type Actor, type Assembly, type Measurement } from './library';
+import type { Actor } from '../actor';
+import { getAssembly, type Assembly, type Measurement } from './library';
 
 export interface AssignmentPreview {
 	preview: ReadingPreview;

@@ -6,7 +6,11 @@ import { clientAddress } from '$lib/server/auth/client-address';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { PRESETTER_CSV_MAX_BYTES } from '$lib/server/tool-library/presetter-csv';
-import { currentMapping, importPresetterCsv, saveMapping } from '$lib/server/tool-library/library';
+import {
+	currentMapping,
+	importPresetterCsv,
+	saveMapping
+} from '$lib/server/tool-library/presetter-import';
 import type { Actions, PageServerLoad } from './$types';
 
 const ID = 'presetter-mapping';

@@ -5,7 +5,7 @@ import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { readBody } from '$lib/server/tool-library/api';
 import { PRESETTER_CSV_MAX_BYTES } from '$lib/server/tool-library/presetter-csv';
-import { importPresetterCsv } from '$lib/server/tool-library/library';
+import { importPresetterCsv } from '$lib/server/tool-library/presetter-import';
 import type { RequestHandler } from './$types';
 
 /** The past presetter imports, newest first. */

@@ -4,7 +4,7 @@ import { clientAddress } from '$lib/server/auth/client-address';
 import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { readBody } from '$lib/server/tool-library/api';
-import { currentMapping, saveMapping } from '$lib/server/tool-library/library';
+import { currentMapping, saveMapping } from '$lib/server/tool-library/presetter-import';
 import type { RequestHandler } from './$types';
 
 /** The shop's presetter CSV mapping (null before the first one is saved). */
