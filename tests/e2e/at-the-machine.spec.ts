@@ -43,7 +43,8 @@ const PAGES: { path: string; name: string; primary?: [string, RegExp | string] }
 	{ path: `${MILL1}/history/tool/2`, name: 'history-h2', primary: ['link', 'Correct'] },
 	{ path: `${MILL1}/history/work/G54`, name: 'history-g54', primary: ['link', 'Correct'] },
 	{ path: `${MILL1}/machine-mode`, name: 'machine-mode', primary: ['link', 'Touch off T1'] },
-	{ path: `${MILL1}/labels`, name: 'labels', primary: ['button', 'Print'] }
+	{ path: `${MILL1}/labels`, name: 'labels', primary: ['button', 'Print'] },
+	{ path: `${MILL1}/components`, name: 'components', primary: ['button', 'Work it out'] }
 ];
 
 for (const vp of [
