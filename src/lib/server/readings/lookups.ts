@@ -6,7 +6,8 @@
 import type { Knex } from 'knex';
 import type { ReadingIssue } from './input';
 
-export interface ToolRow {
+/** The tool a reading is taken with, as the readings need it (not a whole `tools` row). */
+export interface ToolRef {
 	id: number;
 	t: number;
 	h: number;
@@ -18,7 +19,7 @@ export async function findTool(
 	trx: Knex.Transaction,
 	machineId: number,
 	toolId: number | string
-): Promise<ToolRow | undefined> {
+): Promise<ToolRef | undefined> {
 	const id = Number(toolId);
 	if (!Number.isSafeInteger(id) || id <= 0) return undefined;
 	const r = await trx('tools')
@@ -30,7 +31,8 @@ export async function findTool(
 		: undefined;
 }
 
-export interface FixtureRow {
+/** The fixture a part-top reading is for. */
+export interface FixtureRef {
 	id: number;
 	register: string;
 	name: string;
@@ -41,7 +43,7 @@ export async function findFixture(
 	trx: Knex.Transaction,
 	machineId: number,
 	fixtureId: number | string
-): Promise<FixtureRow | undefined> {
+): Promise<FixtureRef | undefined> {
 	const id = Number(fixtureId);
 	if (!Number.isSafeInteger(id) || id <= 0) return undefined;
 	const r = await trx('fixtures')

@@ -40,8 +40,8 @@ import {
 	findFixture,
 	findTool,
 	previousMachineZ,
-	type FixtureRow,
-	type ToolRow
+	type FixtureRef,
+	type ToolRef
 } from './lookups';
 
 export interface Computed<P> {
@@ -56,8 +56,8 @@ export interface TouchParsed {
 	corrects: number | null;
 	reference: ReferenceRecord;
 }
-export type ToolParsed = TouchParsed & { tool: ToolRow };
-export type PartTopParsed = TouchParsed & { fixture: FixtureRow; tool: ToolRow };
+export type ToolParsed = TouchParsed & { tool: ToolRef };
+export type PartTopParsed = TouchParsed & { fixture: FixtureRef; tool: ToolRef };
 
 /**
  * The value before the one being previewed: the history's second-newest entry (the newest is
@@ -234,7 +234,7 @@ async function touchingTool(
 	machine: MachineRecord,
 	withToolId: string,
 	issues: ReadingIssue[]
-): Promise<{ tool?: ToolRow; toolOffset?: number }> {
+): Promise<{ tool?: ToolRef; toolOffset?: number }> {
 	if (!withToolId) {
 		issues.push({ field: 'withToolId', message: 'Choose the tool that touched the part top.' });
 		return {};
