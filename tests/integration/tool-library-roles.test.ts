@@ -8,10 +8,7 @@ import { getMachine } from '$lib/server/offsets/machine-state';
 import { createShopWithOwner } from '$lib/server/shops/create';
 import { assignAssembly } from '$lib/server/tool-library/assign';
 import { listAssemblies } from '$lib/server/tool-library/library';
-import {
-	importPresetterCsv,
-	saveMapping
-} from '$lib/server/tool-library/presetter-import';
+import { importPresetterCsv, saveMapping } from '$lib/server/tool-library/presetter-import';
 import { uniqueSuffix } from './db';
 
 /**

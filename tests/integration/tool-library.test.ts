@@ -13,10 +13,7 @@ import { ReadingInputError } from '$lib/server/readings/input';
 import { provisionShop } from '$lib/server/shops/provision';
 import { assignAssembly, previewAssignment } from '$lib/server/tool-library/assign';
 import { addAssembly, getAssembly, listAssemblies } from '$lib/server/tool-library/library';
-import {
-	importPresetterCsv,
-	saveMapping
-} from '$lib/server/tool-library/presetter-import';
+import { importPresetterCsv, saveMapping } from '$lib/server/tool-library/presetter-import';
 import { testDb, uniqueSuffix } from './db';
 
 /**
