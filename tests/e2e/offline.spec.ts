@@ -11,6 +11,9 @@ import { DEMO_PASSWORD, FERNHILL, signedInClient } from './helpers';
 const SHOP = `/shops/${FERNHILL.slug}`;
 const MILL1 = `${SHOP}/machines/1`;
 const MILL4 = `${SHOP}/machines/4`;
+
+// Installing the worker caches every app file first: give these tests room on a busy machine.
+test.describe.configure({ timeout: 120_000 });
 const shot = (page: Page, name: string) =>
 	page.screenshot({ path: `.data/test/screenshots/${name}.png`, fullPage: true });
 
@@ -42,9 +45,18 @@ async function controlled(page: Page) {
 		null,
 		{ timeout: 30_000 }
 	);
-	// A page loaded before the worker was active is not controlled until it loads again.
-	if (!(await page.evaluate(() => !!navigator.serviceWorker.controller))) await page.reload();
-	await page.waitForFunction(() => !!navigator.serviceWorker.controller);
+	// A page loaded before the worker was active is not controlled until it loads again; on a
+	// busy machine Chromium has been seen to hand control over only on a later load, so try a few.
+	for (let attempt = 0; attempt < 4; attempt++) {
+		if (await page.evaluate(() => !!navigator.serviceWorker.controller)) return;
+		await page.reload();
+		const now = await page
+			.waitForFunction(() => !!navigator.serviceWorker.controller, null, { timeout: 5_000 })
+			.then(() => true)
+			.catch(() => false);
+		if (now) return;
+	}
+	throw new Error('the service worker is active but never took control of the page');
 }
 
 interface Row {
