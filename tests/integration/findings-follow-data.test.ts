@@ -6,8 +6,8 @@ import { actOnFinding } from '$lib/server/fleet/findings';
 import { recheckMachine } from '$lib/server/fleet/recheck';
 import { getMachine, type MachineRecord } from '$lib/server/offsets/machine-state';
 import { recordToolReading } from '$lib/server/readings/record';
-import { provisionShop } from '$lib/server/shops/provision';
-import { testDb, uniqueSuffix } from './db';
+import { testDb } from './db';
+import { newTestMill } from './test-mill';
 
 /**
  * Findings follow the data (a safety gate): a write that changes a machine's offsets re-runs its
@@ -32,24 +32,16 @@ const rows = () =>
 	>;
 
 beforeAll(async () => {
-	const email = `follow-${uniqueSuffix()}@example.test`;
-	const [u] = await knex('users').insert({ email, name: 'Fay Follow' }).returning('id');
-	actor = { id: Number(u.id), email };
-	shop = await provisionShop(knex, { name: 'Follow Test', slug: `follow-${uniqueSuffix()}` });
+	({ shop, actor, machineId } = await newTestMill(knex, {
+		slug: 'follow',
+		person: 'Fay Follow',
+		shopName: 'Follow Test',
+		machineName: 'Follow Mill',
+		referenceDaysAgo: 60
+	}));
 	await withShop(
 		shop,
 		async (trx) => {
-			const [m] = await trx('machines')
-				.insert({ name: 'Follow Mill', units: 'inch', z_travel: 20, resolution: 0.0001 })
-				.returning('id');
-			machineId = Number(m.id);
-			await trx('reference_surfaces').insert({
-				machine_id: machineId,
-				version: 1,
-				instrument: '1-2-3 block',
-				height: 3,
-				established_at: new Date(Date.now() - 60 * DAY)
-			});
 			const [t] = await trx('tools')
 				.insert({ machine_id: machineId, t_number: 3, h_number: 3, description: 'end mill' })
 				.returning('id');

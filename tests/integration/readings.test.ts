@@ -9,8 +9,8 @@ import { previewPartTopReading, previewToolReading } from '$lib/server/readings/
 import { recordPartTopReading, recordToolReading } from '$lib/server/readings/record';
 import { recordReference } from '$lib/server/readings/reference';
 import { registerHistory } from '$lib/server/readings/history';
-import { provisionShop } from '$lib/server/shops/provision';
-import { testDb, uniqueSuffix } from './db';
+import { testDb } from './db';
+import { newTestMill } from './test-mill';
 
 /**
  * Reading flows against the real PostgreSQL: a reading and its offset version are written
@@ -34,24 +34,16 @@ const count = (table: string) =>
 	withShop(shop, async (trx) => Number((await trx(table).count('* as n'))[0].n), knex);
 
 beforeAll(async () => {
-	const email = `readings-${uniqueSuffix()}@example.test`;
-	const [u] = await knex('users').insert({ email, name: 'Rita Reader' }).returning('id');
-	actor = { id: Number(u.id), email };
-	shop = await provisionShop(knex, { name: 'Readings Test', slug: `readings-${uniqueSuffix()}` });
+	({ shop, actor, machineId } = await newTestMill(knex, {
+		slug: 'readings',
+		person: 'Rita Reader',
+		shopName: 'Readings Test',
+		machineName: 'Test Mill',
+		referenceDaysAgo: 30
+	}));
 	await withShop(
 		shop,
 		async (trx) => {
-			const [m] = await trx('machines')
-				.insert({ name: 'Test Mill', units: 'inch', z_travel: 20, resolution: 0.0001 })
-				.returning('id');
-			machineId = Number(m.id);
-			await trx('reference_surfaces').insert({
-				machine_id: machineId,
-				version: 1,
-				instrument: '1-2-3 block',
-				height: 3,
-				established_at: new Date(Date.now() - 30 * DAY)
-			});
 			const [t1, t2] = await trx('tools')
 				.insert([
 					{ machine_id: machineId, t_number: 2, h_number: 2, description: '1/2 in end mill' },
