@@ -62,11 +62,18 @@ const IGNORE = [
  */
 const ISO_IGNORE = [50, 51, 80, 1030, 1870];
 
-/** G codes × 10 → kind, for one dialect. */
-export type GTable = ReadonlyMap<number, GKind>;
+/**
+ * G codes × 10 → kind, for one dialect: indexed by the code (every code the check knows is
+ * below TABLE_SIZE), so the look-up made for every G word of every line is one array read.
+ */
+export type GTable = Readonly<Uint8Array>;
+
+/** Codes × 10 below this are in the table (G0 … G199.9); any other is unknown. */
+const TABLE_SIZE = 2000;
 
 function table(rules: DialectRules): GTable {
-	const t = new Map<number, GKind>();
+	const map = new Map<number, GKind>();
+	const t = { set: (code: number, kind: GKind) => map.set(code, kind) };
 	for (const c of IGNORE) t.set(c, GKind.Ignore);
 	if (rules.dialect === 'iso') for (const c of ISO_IGNORE) t.set(c, GKind.Ignore);
 	for (const c of [0, 10, 20, 30]) t.set(c, GKind.Motion);
@@ -88,7 +95,12 @@ function table(rules: DialectRules): GTable {
 	for (const c of Object.keys(CAUTION_WHY)) t.set(Number(c), GKind.Caution);
 	t.set(921, GKind.ShiftCancel);
 	t.set(922, GKind.ShiftCancel);
-	return t;
+	const dense = new Uint8Array(TABLE_SIZE).fill(GKind.Unknown);
+	for (const [code, kind] of map) {
+		if (code < 0 || code >= TABLE_SIZE) throw new Error(`G code ${code} is outside the table`);
+		dense[code] = kind;
+	}
+	return dense;
 }
 
 const TABLES: Record<Dialect, GTable> = {
@@ -103,7 +115,7 @@ export function gTable(dialect: Dialect): GTable {
 
 /** The kind of a G code × 10 (RS274NGC-style unless a table is given). */
 export function gKind(code: number, t: GTable = TABLES.rs274ngc): GKind {
-	return t.get(code) ?? GKind.Unknown;
+	return code >= 0 && code < TABLE_SIZE ? (t[code] as GKind) : GKind.Unknown;
 }
 
 /** "G54.1" for 541, "G0" for 0. */

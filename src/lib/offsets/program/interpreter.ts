@@ -399,10 +399,12 @@ export class Interpreter {
 		this.tool = tool === '0' ? '' : tool;
 		if (this.tool === '') {
 			this.toolOffset = Number.NaN;
+			this.retouch();
 			return;
 		}
 		this.tally.tool(this.tool);
 		this.toolOffset = this.ctx.tools.get(this.ownH(this.tool)) ?? Number.NaN;
+		this.retouch();
 	}
 
 	private ownH(tool: string): string {
@@ -520,6 +522,7 @@ export class Interpreter {
 				this.registerChosen = true;
 				this.workZ = Number.NaN;
 				this.fixture = undefined;
+				this.retouch();
 				this.out.report('unknown-work-offset', 'stop', line, () => ({ message: say.workNoP() }));
 				return;
 			}
@@ -531,6 +534,7 @@ export class Interpreter {
 			this.register = text;
 			this.workZ = Number.NaN;
 			this.fixture = undefined;
+			this.retouch();
 			if (this.tally.once(`W-bad:${text}`))
 				this.out.report('unknown-work-offset', 'stop', line, () => ({
 					message: say.workUnsupported(text),
@@ -547,6 +551,7 @@ export class Interpreter {
 		const w = this.ctx.work.get(reg);
 		this.workZ = w ?? Number.NaN;
 		this.fixture = this.ctx.fixtures.get(reg);
+		this.retouch();
 		if (w === undefined) {
 			if (this.tally.once(`W-missing:${reg}`))
 				this.out.report('unknown-work-offset', 'stop', line, () => ({
@@ -746,8 +751,14 @@ export class Interpreter {
 
 	// ---- checks ------------------------------------------------------------------------
 
-	/** R + L_t of the tool in the spindle: the spindle Z with its tip on the reference. */
-	private touchZ(): number {
+	/**
+	 * R + L_t of the tool in the spindle: the spindle Z with its tip on the reference. Worked
+	 * out again only when the tool, its offset or the work offset changes (retouch), not per move.
+	 */
+	private touch = Number.NaN;
+
+	/** Works out `touch` again; called wherever toolOffset, workZ or fixture is set. */
+	private retouch(): void {
 		let c = this.ctx.conventionConstant;
 		if (Number.isNaN(c)) {
 			c =
@@ -755,7 +766,7 @@ export class Interpreter {
 					? this.workZ - this.fixture.zeroHeight
 					: this.fallbackConstant;
 		}
-		return this.toolOffset + c;
+		this.touch = this.toolOffset + c;
 	}
 
 	/** A length for finding data, at the machine's increment (data is shown on screens). */
@@ -764,7 +775,7 @@ export class Interpreter {
 	}
 
 	private tipAt(z: number): number {
-		return z - this.touchZ();
+		return z - this.touch;
 	}
 
 	private recordTip(z: number): void {
@@ -788,7 +799,7 @@ export class Interpreter {
 			if (this.lowRegister === null) this.lowRegister = this.register;
 			if (this.otherH !== null && inWork) this.otherHLow(tip);
 		}
-		if (inWork) this.recordTip(this.machineZ);
+		if (inWork && this.tool !== '') this.tally.tip(this.tool, tip);
 	}
 
 	/** Another tool's H and the tip below the clearance height: the caution becomes a stop. */

@@ -136,30 +136,36 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 				negative = true;
 				k++;
 			} else if (d === 43) k++;
+			// Past 16 digits a double holds no more: drop further decimals, count whole ones.
 			let mantissa = 0;
 			let digits = 0;
 			let places = 0;
 			let extra = 0;
-			let dot = false;
-			while (k < end) {
-				const e = text.charCodeAt(k);
-				if (e >= 48 && e <= 57) {
-					// Past 16 digits a double holds no more: drop further decimals, count whole ones.
+			let e = 0;
+			// Whole part, then (after one ".") the decimals: two plain loops, no per-digit flag.
+			while (k < end && (e = text.charCodeAt(k) - 48) >= 0 && e <= 9) {
+				if (mantissa < 1e16) mantissa = mantissa * 10 + e;
+				else extra++;
+				digits++;
+				k++;
+			}
+			if (k < end && e === -2) {
+				k++;
+				while (k < end && (e = text.charCodeAt(k) - 48) >= 0 && e <= 9) {
 					if (mantissa < 1e16) {
-						mantissa = mantissa * 10 + (e - 48);
-						if (dot) places++;
-					} else if (!dot) extra++;
+						mantissa = mantissa * 10 + e;
+						places++;
+					}
 					digits++;
 					k++;
-				} else if (e === 46 && !dot) {
-					dot = true;
-					k++;
-				} else break;
+				}
 			}
 			if (digits === 0) return problem(b, ScanProblem.NoNumber, c, i - start + 1);
 			let value = places === 0 ? mantissa : mantissa / POW10[places];
-			if (extra > 0) value *= 10 ** extra;
-			if (!Number.isFinite(value)) return problem(b, ScanProblem.BadNumber, c, i - start + 1);
+			if (extra > 0) {
+				value *= 10 ** extra;
+				if (!Number.isFinite(value)) return problem(b, ScanProblem.BadNumber, c, i - start + 1);
+			}
 			if (negative) value = -value;
 			b.words++;
 			if (letter === L.G || letter === L.M) {
@@ -178,9 +184,9 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 			// Comments do not nest (NISTIR 6556 §3.3.4): the first ")" closes.
 			const close = text.indexOf(')', i + 1);
 			if (close < 0 || close >= end) return problem(b, ScanProblem.OpenComment, c, i - start + 1);
-			for (let k = i + 1; k < close; k++)
-				if (text.charCodeAt(k) === 40)
-					return problem(b, ScanProblem.NestedComment, 40, k - start + 1);
+			const nested = text.indexOf('(', i + 1);
+			if (nested >= 0 && nested < close)
+				return problem(b, ScanProblem.NestedComment, 40, nested - start + 1);
 			i = close + 1;
 			continue;
 		}
