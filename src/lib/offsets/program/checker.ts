@@ -318,7 +318,19 @@ class StreamChecker implements ProgramChecker {
 				unknownSpans: spans
 			}
 		};
-		if (this.profile) result.profile = this.profile.result((v) => round(v, res));
+		if (this.profile) {
+			// The picture's heights repeat (the same planes, again and again): each distinct
+			// height is rounded once (exact decimal rounding is slow next to a map look-up).
+			const rounded = new Map<number, number>();
+			result.profile = this.profile.result((v) => {
+				let r = rounded.get(v);
+				if (r === undefined) {
+					r = round(v, res);
+					rounded.set(v, r);
+				}
+				return r;
+			});
+		}
 		return result;
 	}
 }
