@@ -120,5 +120,13 @@ export function gKind(code: number, t: GTable = TABLES.rs274ngc): GKind {
 
 /** "G54.1" for 541, "G0" for 0. */
 export function gText(code: number): string {
+	if (code >= 0 && code < TABLE_SIZE) return (G_TEXT[code] ??= writeG(code));
+	return writeG(code);
+}
+
+/** gText of the codes in the table, each written once (G54 comes back at every op). */
+const G_TEXT: string[] = [];
+
+function writeG(code: number): string {
 	return code % 10 === 0 ? `G${code / 10}` : `G${Math.trunc(code / 10)}.${Math.abs(code % 10)}`;
 }

@@ -938,5 +938,11 @@ export class Interpreter {
 
 /** A T or H number as text ("3"), '' when it is not a whole number ≥ 0. */
 function toolText(v: number): string {
-	return Number.isInteger(v) && v >= 0 && v < 1e9 ? String(v) : '';
+	if (!(Number.isInteger(v) && v >= 0 && v < 1e9)) return '';
+	if (v >= TEXT_CACHE) return String(v);
+	// The same few numbers come back at every tool change: one string each, made once.
+	return (NUMBER_TEXT[v] ??= String(v));
 }
+
+const TEXT_CACHE = 1000;
+const NUMBER_TEXT: string[] = [];

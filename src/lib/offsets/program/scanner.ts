@@ -97,9 +97,9 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 		const letter = (c | 32) - 97;
 		if (letter >= 0 && letter < 26 && c >= 65) {
 			let j = i + 1;
-			while (j < end && (text.charCodeAt(j) === SPACE || text.charCodeAt(j) === TAB)) j++;
+			let d = j < end ? text.charCodeAt(j) : -1;
+			while (d === SPACE || d === TAB) d = ++j < end ? text.charCodeAt(j) : -1;
 			if (j >= end) return problem(b, ScanProblem.NoNumber, c, i - start + 1);
-			const d = text.charCodeAt(j);
 			if (d === 35 || d === 91) {
 				// "#" or "[": a parameter or expression (NISTIR 6556 §3.3.2); value unknown here.
 				b.words++;
