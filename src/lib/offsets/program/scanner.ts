@@ -136,28 +136,47 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 				negative = true;
 				k++;
 			} else if (d === 43) k++;
-			// Past 16 digits a double holds no more: drop further decimals, count whole ones.
-			let mantissa = 0;
+			// The first 9 digits are summed as whole numbers (exact, and cheaper than doubles);
+			// a longer number goes on in doubles. Past 16 digits a double holds no more: further
+			// decimals are dropped, further whole digits counted.
+			let small = 0;
 			let digits = 0;
 			let places = 0;
 			let extra = 0;
 			let e = 0;
-			// Whole part, then (after one ".") the decimals: two plain loops, no per-digit flag.
-			while (k < end && (e = text.charCodeAt(k) - 48) >= 0 && e <= 9) {
-				if (mantissa < 1e16) mantissa = mantissa * 10 + e;
-				else extra++;
+			while (k < end && (e = text.charCodeAt(k) - 48) >= 0 && e <= 9 && digits < 9) {
+				small = small * 10 + e;
 				digits++;
 				k++;
 			}
-			if (k < end && e === -2) {
-				k++;
+			let mantissa = small;
+			if (digits === 9) {
 				while (k < end && (e = text.charCodeAt(k) - 48) >= 0 && e <= 9) {
-					if (mantissa < 1e16) {
-						mantissa = mantissa * 10 + e;
-						places++;
-					}
+					if (mantissa < 1e16) mantissa = mantissa * 10 + e;
+					else extra++;
 					digits++;
 					k++;
+				}
+			}
+			if (k < end && e === -2) {
+				// One "." then the decimals.
+				k++;
+				while (k < end && (e = text.charCodeAt(k) - 48) >= 0 && e <= 9 && digits < 9) {
+					small = small * 10 + e;
+					places++;
+					digits++;
+					k++;
+				}
+				if (places > 0) mantissa = small;
+				if (digits >= 9) {
+					while (k < end && (e = text.charCodeAt(k) - 48) >= 0 && e <= 9) {
+						if (mantissa < 1e16) {
+							mantissa = mantissa * 10 + e;
+							places++;
+						}
+						digits++;
+						k++;
+					}
 				}
 			}
 			if (digits === 0) return problem(b, ScanProblem.NoNumber, c, i - start + 1);
