@@ -36,6 +36,9 @@ export class Interpreter {
 	readonly tally: Tally;
 	private readonly f: Fmt;
 	private readonly eps: number;
+	/** Travel limits with the resolution's tolerance (checkTravel). */
+	private readonly zHigh: number;
+	private readonly zLow: number;
 	/** Fallback R + L − H from the first setup fixture with a table value (see context.ts). */
 	private readonly fallbackConstant: number;
 	readonly rules: DialectRules;
@@ -115,6 +118,8 @@ export class Interpreter {
 	) {
 		this.f = formatter(ctx.units, ctx.resolution);
 		this.eps = ctx.resolution / 2;
+		this.zHigh = ctx.zMax + this.eps;
+		this.zLow = ctx.zMin - this.eps;
 		this.tally = new Tally(ctx.units);
 		let c = Number.NaN;
 		for (const [reg, fx] of ctx.fixtures) {
@@ -815,12 +820,16 @@ export class Interpreter {
 	}
 
 	private checkTravel(line: number, z: number): void {
+		// Small, so it is inlined into every move: the rare overtravel is its own function.
+		// A height not known (NaN) passes neither test.
+		if (z > this.zHigh || z < this.zLow) this.overtravel(line, z);
+	}
+
+	private overtravel(line: number, z: number): void {
 		// Z homes at the top of travel (0) and reads negative below it (common shop practice).
 		// Reported once per tool (M6 to M6) with a count of the moves, so a program with a wrong
 		// offset gives one finding per tool, not one per move.
-		if (Number.isNaN(z)) return;
 		const { zMin, zMax } = this.ctx;
-		if (!(z > zMax + this.eps || z < zMin - this.eps)) return;
 		const seg = this.overtravelSeg;
 		if (seg !== null && seg.segment === this.segment) {
 			seg.count++;
