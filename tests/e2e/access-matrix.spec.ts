@@ -203,6 +203,8 @@ const OTHER_ROUTES: Record<string, { path: string; status: number }> = {
 	'/api/v1/stripe/webhook': { path: '/api/v1/stripe/webhook', status: 405 },
 	'/signin': { path: '/signin', status: 303 },
 	'/signup': { path: '/signup', status: 303 },
+	// The sign-up e-mail's link: signed in already, it goes to the shop list (creates nothing).
+	'/signup/confirm/[token]': { path: '/signup/confirm/not-a-token', status: 303 },
 	'/signout': { path: '/signout', status: 303 },
 	'/reset': { path: '/reset', status: 200 },
 	'/reset/[token]': { path: '/reset/not-a-token', status: 200 },

@@ -1,5 +1,5 @@
 import { expect, test } from '@playwright/test';
-import { DEMO_PASSWORD, FERNHILL, mailsTo } from './helpers';
+import { baseURL, DEMO_PASSWORD, FERNHILL, mailsTo, signUpLink } from './helpers';
 
 async function signIn(
 	page: import('@playwright/test').Page,
@@ -117,10 +117,68 @@ test('sign-up creates a shop with its owner; bad input names the field and chang
 
 	await page.getByLabel('Web address of the shop (optional)').fill('');
 	await page.getByRole('button', { name: 'Create the shop' }).click();
+	await expect(page.getByRole('heading', { name: 'Check your e-mail' })).toBeVisible();
+	await expect(page.getByTestId('signup-sent')).toContainText(
+		`We sent a link to ${email} to finish starting Founders Mill Works.`
+	);
+	// Nothing exists until the e-mailed link is followed with the password chosen.
+	await page.goto(await signUpLink(email));
+	await expect(page.getByText('/shops/founders-mill-works')).toBeVisible();
+	await page.getByLabel('Password').fill('not-the-pass-1');
+	await page.getByRole('button', { name: 'Start the shop' }).click();
+	await expect(page.getByRole('alert')).toContainText('not the password you chose');
+	await page.getByLabel('Password').fill('founders-pass-7');
+	await page.getByRole('button', { name: 'Start the shop' }).click();
 	await expect(page).toHaveURL(/\/shops\/founders-mill-works$/);
 	await expect(page.getByTestId('shop-switcher')).toContainText('Founders Mill Works');
 	await page.getByRole('link', { name: 'Audit log' }).click();
 	await expect(page.getByTestId('audit-table')).toContainText('Shop created');
+});
+
+test('sign-up answers the same page for an e-mail with an account and a new one', async ({
+	playwright
+}) => {
+	// Before issue 13 a known e-mail got "This e-mail already has an account" and a new one was
+	// signed in at once: anyone could tell who has an account.
+	const known = FERNHILL.owner;
+	const fresh = `enum-${Date.now()}@example.test`;
+	const knownMailsBefore = (await mailsTo(known)).length;
+	const slug = `enumeration-${Date.now()}`;
+	const post = async (email: string) => {
+		const ctx = await playwright.request.newContext({
+			baseURL,
+			extraHTTPHeaders: { Origin: baseURL }
+		});
+		const res = await ctx.post('/signup', {
+			form: {
+				name: 'Ena Numeration',
+				email,
+				password: 'enumeration-pass-1',
+				shopName: 'Enumeration Works',
+				shopSlug: slug
+			},
+			headers: { accept: 'text/html' },
+			maxRedirects: 0
+		});
+		// Only the echoed address (and the CSP nonce of the page) may differ.
+		const body = (await res.text())
+			.replaceAll(email, 'ADDRESS')
+			.replace(/nonce-[A-Za-z0-9+/=]+/g, 'nonce')
+			.replace(/nonce="[^"]*"/g, 'nonce');
+		await ctx.dispose();
+		return { status: res.status(), body };
+	};
+	const a = await post(known);
+	const b = await post(fresh);
+	expect(a.status).toBe(200);
+	expect(b.status).toBe(a.status);
+	expect(a.body).toContain('We sent a link to <strong>ADDRESS</strong>');
+	expect(b.body).toBe(a.body);
+	// The mail tells them apart, not the page: the known address is told someone tried.
+	const toKnown = await mailsTo(known);
+	expect(toKnown.length).toBe(knownMailsBefore + 1);
+	expect(toKnown[0].subject).toBe('Someone tried to start a shop with your e-mail address');
+	expect(await signUpLink(fresh)).toMatch(/^\/signup\/confirm\//);
 });
 
 test('password reset from the e-mailed link; the same answer for an unknown e-mail', async ({

@@ -38,3 +38,14 @@ export async function mailsTo(
 	);
 	return res.json();
 }
+
+/** The link in the newest sign-up e-mail to an address (the confirmation page's path). */
+export async function signUpLink(address: string): Promise<string> {
+	for (let i = 0; i < 50; i++) {
+		const [mail] = await mailsTo(address);
+		const link = (mail?.text ?? '').match(/https?:\/\/\S+\/signup\/confirm\/[A-Za-z0-9_-]+/)?.[0];
+		if (link) return new URL(link).pathname;
+		await new Promise((r) => setTimeout(r, 100));
+	}
+	throw new Error(`no sign-up link was mailed to ${address}`);
+}

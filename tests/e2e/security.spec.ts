@@ -4,7 +4,7 @@
  * stays on the site, the CSP is sent, and the dev mailbox shows a person only their own mail.
  */
 import { expect, request, test, type APIRequestContext } from '@playwright/test';
-import { baseURL, FERNHILL, mailsTo, signedInClient } from './helpers';
+import { baseURL, FERNHILL, mailsTo, signedInClient, signUpLink } from './helpers';
 
 const PASSWORD = 'security-spec-pass-1';
 
@@ -21,7 +21,16 @@ async function newOwner(
 		headers: { accept: 'text/html' },
 		maxRedirects: 0
 	});
-	expect([302, 303]).toContain(res.status());
+	expect(res.status()).toBe(200);
+	expect(await res.text()).toContain('Check your e-mail');
+	// The e-mailed link and the password chosen make the shop and sign in.
+	const done = await ctx.post(await signUpLink(email), {
+		form: { password: PASSWORD },
+		headers: { accept: 'text/html' },
+		maxRedirects: 0
+	});
+	expect([302, 303]).toContain(done.status());
+	expect(done.headers()['location']).toContain(`/shops/${slug}`);
 	return { email, slug, ctx };
 }
 

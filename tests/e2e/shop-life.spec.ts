@@ -4,7 +4,7 @@ import { parse } from 'csv-parse/sync';
 import yauzl from 'yauzl';
 import { hashPassword } from '../../src/lib/server/auth/password';
 import { formatWhen } from '../../src/lib/time';
-import { mailsTo } from './helpers';
+import { mailsTo, signUpLink } from './helpers';
 
 /**
  * A shop's whole life: a stranger signs up and follows the first steps to a first
@@ -33,6 +33,11 @@ async function signUp(page: Page, name: string, email: string, shopName: string)
 	await page.getByLabel('Password').fill(PASSWORD);
 	await page.getByLabel('Shop name').fill(shopName);
 	await page.getByRole('button', { name: 'Create the shop' }).click();
+	await expect(page.getByTestId('signup-sent')).toContainText(email);
+	// The shop is made from the e-mailed link, with the password chosen.
+	await page.goto(await signUpLink(email));
+	await page.getByLabel('Password').fill(PASSWORD);
+	await page.getByRole('button', { name: 'Start the shop' }).click();
 	await expect(page).toHaveURL(/\/shops\/[a-z0-9-]+$/);
 	return new URL(page.url()).pathname.split('/').pop()!;
 }

@@ -54,6 +54,10 @@ export const signUpSchema = z.object({
 
 export const resetRequestSchema = z.object({ email: emailField });
 export const resetPasswordSchema = z.object({ password: newPasswordField });
+/** Following a sign-up link: the password chosen at sign-up, typed again. */
+export const signUpConfirmSchema = z.object({
+	password: z.string().min(1, 'Enter the password you chose.')
+});
 
 /** Turns a shop name into an address: "Fernhill Precision" → "fernhill-precision". */
 export function slugify(name: string): string {

@@ -10,6 +10,8 @@ export interface NewOwner {
 	name?: string;
 	email: string;
 	password?: string;
+	/** A password hashed already (a confirmed sign-up keeps only the hash). */
+	passwordHash?: string;
 }
 
 /**
@@ -23,7 +25,8 @@ export async function createShopWithOwner(
 	owner: NewOwner,
 	ip = ''
 ): Promise<{ shop: ProvisionedShop; userId: number }> {
-	const passwordHash = owner.password ? await hashPassword(owner.password) : null;
+	const passwordHash =
+		owner.passwordHash ?? (owner.password ? await hashPassword(owner.password) : null);
 	return knex.transaction(async (trx) => {
 		let userId = owner.userId;
 		if (!userId) {

@@ -1,18 +1,31 @@
 import { fail, redirect } from '@sveltejs/kit';
-import { setError, superValidate } from 'sveltekit-superforms';
+import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { SLUG_RULE, signUpSchema, slugify } from '$lib/schemas/auth';
 import { clientAddress } from '$lib/server/auth/client-address';
-import { startSession } from '$lib/server/auth/sign-in';
+import { hit } from '$lib/server/auth/rate-limit';
+import { requestSignUp } from '$lib/server/auth/signup';
 import { db } from '$lib/server/db';
-import { createShopWithOwner } from '$lib/server/shops/create';
+import { redis } from '$lib/server/redis';
 import { slugTaken } from '$lib/server/shops/queries';
-import { findUserByEmail } from '$lib/server/users';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ locals }) => {
 	if (locals.user) redirect(303, '/shops/new');
 	return { form: await superValidate(zod4(signUpSchema)) };
+};
+
+/** What the page says after a sign-up, or why it could not start one. */
+export type SignUpMessage =
+	{ sent: true; email: string; shopName: string } | { sent: false; text: string };
+
+/**
+ * Sign-up limits (our own choice, like the reset form's): per client address, and per e-mail so
+ * the form cannot flood someone's inbox. Neither depends on whether the e-mail has an account.
+ */
+const LIMITS = {
+	address: { max: 20, windowSeconds: 3600 },
+	email: { max: 5, windowSeconds: 3600 }
 };
 
 export const actions: Actions = {
@@ -23,34 +36,48 @@ export const actions: Actions = {
 		if (!/^[a-z0-9]([a-z0-9-]{0,46}[a-z0-9])$/.test(slug)) {
 			return setError(form, 'shopSlug', `Choose a web address for the shop: ${SLUG_RULE}.`);
 		}
+		// Shop addresses are public (they are in every link), so saying one is taken tells nothing.
 		if (await slugTaken(db(), slug)) {
 			return setError(form, 'shopSlug', `The web address "${slug}" is taken; choose another.`);
 		}
-		if (await findUserByEmail(db(), form.data.email)) {
-			return setError(
-				form,
-				'email',
-				'This e-mail already has an account. Sign in, then start the new shop from your shop list.'
-			);
-		}
-		try {
-			await createShopWithOwner(
-				db(),
-				{ name: form.data.shopName, slug },
-				{ name: form.data.name, email: form.data.email, password: form.data.password },
-				clientAddress(event)
-			);
-		} catch (e) {
-			// Two sign-ups racing for one address: the unique index decides, nothing was kept.
-			if ((e as { code?: string }).code === '23505') {
-				return setError(
+		const email = form.data.email.trim();
+		for (const [key, limit] of [
+			[`dk:signup:addr:${clientAddress(event)}`, LIMITS.address],
+			[`dk:signup:email:${email.toLowerCase()}`, LIMITS.email]
+		] as const) {
+			const r = await hit(redis(), key, limit);
+			if (!r.allowed) {
+				const at = new Date(Date.now() + r.retryAfterSeconds * 1000).toISOString().slice(11, 16);
+				return message(
 					form,
-					'shopSlug',
-					`The web address "${slug}" was just taken; choose another.`
+					{
+						sent: false,
+						text: `Too many sign-ups from here or for this e-mail. Try again at ${at} UTC.`
+					} satisfies SignUpMessage,
+					{ status: 429 }
 				);
 			}
-			throw e;
 		}
-		return startSession(event, form.data.email, form.data.password, `/shops/${slug}`);
+		const request = { ...form.data, email, shopSlug: slug };
+		// The password is never sent back to the page.
+		form.data.password = '';
+		try {
+			await requestSignUp(db(), request, clientAddress(event));
+		} catch (e) {
+			console.error('sign-up e-mail not sent:', (e as Error).message);
+			return message(
+				form,
+				{
+					sent: false,
+					text: 'The e-mail could not be sent just now, so nothing was started. Try again in a few minutes.'
+				} satisfies SignUpMessage,
+				{ status: 503 }
+			);
+		}
+		return message(form, {
+			sent: true,
+			email,
+			shopName: form.data.shopName
+		} satisfies SignUpMessage);
 	}
 };
