@@ -33,7 +33,7 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import autocannon from 'autocannon';
 import { hashPassword } from '$lib/server/auth/password';
-import { config } from '$lib/server/config';
+import { config, reloadConfig } from '$lib/server/config';
 import { createDb } from '$lib/server/db';
 import { assertLoopbackDatabase } from '$lib/server/db/loopback';
 import { migrateAll } from '$lib/server/db/migrate';
@@ -47,6 +47,10 @@ const CONNECTIONS = Number(process.env.BENCH_CONNECTIONS ?? 50);
 const SECONDS = Number(process.env.BENCH_SECONDS ?? 10);
 const WARMUP_SECONDS = 2;
 const DB_NAME = process.env.BENCH_DATABASE_NAME ?? 'datumkeep_bench';
+/** The benchmark's AUTH_SECRET, in this process too: shops provisioned here are keyed with it
+ * (db/shop-token.ts), and the servers it starts must open them. */
+const BENCH_SECRET = (process.env.AUTH_SECRET ||= randomBytes(32).toString('hex'));
+reloadConfig();
 const SHOP_SLUG = 'bench-machining';
 const LEAD = { email: 'lead@bench.example', password: 'bench-password-not-secret' };
 
@@ -254,6 +258,13 @@ async function main(): Promise<void> {
 	let t = Date.now();
 	await freshDatabase(dbUrl);
 	await seedBenchShop(dbUrl);
+	// The servers log in as the least-privilege app role, as shipped (docs/SECURITY.md): its
+	// grants on the bench database, and every table handed to the owner role.
+	execFileSync(join(root, 'node_modules/.bin/tsx'), ['scripts/db-roles.ts'], {
+		cwd: root,
+		env: { ...process.env, DATABASE_URL: dbUrl },
+		stdio: ['ignore', 'ignore', 'inherit']
+	});
 	console.log(
 		`fleet bench: seeded ${SCALE.machines} machines, ${SCALE.machines * 20} tools, ${SCALE.readings} readings in ${((Date.now() - t) / 1000).toFixed(1)} s`
 	);
@@ -268,8 +279,13 @@ async function main(): Promise<void> {
 		console.log(`fleet bench: built in ${((Date.now() - t) / 1000).toFixed(0)} s`);
 	}
 
-	// One secret for both servers, so the one sign-in's cookie is good on either.
-	const authSecret = randomBytes(32).toString('hex');
+	// One secret for both servers, so the one sign-in's cookie is good on either; the seed above
+	// keyed the shop with it (db/shop-token.ts).
+	const authSecret = BENCH_SECRET;
+	const app = new URL(dbUrl);
+	app.username = 'datumkeep_app';
+	app.password = '';
+	const appUrl = app.toString();
 	const serverEnv = (port: number, origin: string, extra: NodeJS.ProcessEnv = {}) => ({
 		...process.env,
 		NODE_ENV: 'production',
@@ -277,6 +293,7 @@ async function main(): Promise<void> {
 		PORT: String(port),
 		ORIGIN: origin,
 		DATABASE_URL: dbUrl,
+		DATABASE_APP_URL: appUrl,
 		AUTH_SECRET: authSecret,
 		AUTH_TRUST_HOST: 'true',
 		...extra
