@@ -258,13 +258,6 @@ async function main(): Promise<void> {
 	let t = Date.now();
 	await freshDatabase(dbUrl);
 	await seedBenchShop(dbUrl);
-	// The servers log in as the least-privilege app role, as shipped (docs/SECURITY.md): its
-	// grants on the bench database, and every table handed to the owner role.
-	execFileSync(join(root, 'node_modules/.bin/tsx'), ['scripts/db-roles.ts'], {
-		cwd: root,
-		env: { ...process.env, DATABASE_URL: dbUrl },
-		stdio: ['ignore', 'ignore', 'inherit']
-	});
 	console.log(
 		`fleet bench: seeded ${SCALE.machines} machines, ${SCALE.machines * 20} tools, ${SCALE.readings} readings in ${((Date.now() - t) / 1000).toFixed(1)} s`
 	);
@@ -282,10 +275,6 @@ async function main(): Promise<void> {
 	// One secret for both servers, so the one sign-in's cookie is good on either; the seed above
 	// keyed the shop with it (db/shop-token.ts).
 	const authSecret = BENCH_SECRET;
-	const app = new URL(dbUrl);
-	app.username = 'datumkeep_app';
-	app.password = '';
-	const appUrl = app.toString();
 	const serverEnv = (port: number, origin: string, extra: NodeJS.ProcessEnv = {}) => ({
 		...process.env,
 		NODE_ENV: 'production',
@@ -293,7 +282,6 @@ async function main(): Promise<void> {
 		PORT: String(port),
 		ORIGIN: origin,
 		DATABASE_URL: dbUrl,
-		DATABASE_APP_URL: appUrl,
 		AUTH_SECRET: authSecret,
 		AUTH_TRUST_HOST: 'true',
 		...extra
