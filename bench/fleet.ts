@@ -8,7 +8,8 @@
  *    a lead to sign in as.
  * 2. The production build (`vite build`, unless BENCH_SKIP_BUILD=1) served by `node build` on a
  *    free loopback port, exactly as in production: hooks, Auth.js session, guard, board cache,
- *    Knex pool. A second server from the same build with FLEET_BOARD_CACHE=off shows what a
+ *    Knex pool, logged in as the least-privilege app role (BENCH_SHOP_RLS=off drops the shop's
+ *    row-level security, to compare). A second server from the same build with FLEET_BOARD_CACHE=off shows what a
  *    board costs when it is built for every request (after every change, in effect).
  * 3. A sign-in through the real form action (POST /signin with an Origin header); its session
  *    cookie is sent with every request to GET /api/v1/shops/<shop>/fleet, with the
@@ -33,10 +34,11 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import autocannon from 'autocannon';
 import { hashPassword } from '$lib/server/auth/password';
-import { config } from '$lib/server/config';
+import { config, reloadConfig } from '$lib/server/config';
 import { createDb } from '$lib/server/db';
 import { assertLoopbackDatabase } from '$lib/server/db/loopback';
 import { migrateAll } from '$lib/server/db/migrate';
+import { APP_ROLE, OWNER_ROLE } from '$lib/server/db/roles';
 import { provisionShop } from '$lib/server/shops/provision';
 import { SCALE, seedScaleShop } from '../tests/fixtures/fleet-data';
 
@@ -47,6 +49,10 @@ const CONNECTIONS = Number(process.env.BENCH_CONNECTIONS ?? 50);
 const SECONDS = Number(process.env.BENCH_SECONDS ?? 10);
 const WARMUP_SECONDS = 2;
 const DB_NAME = process.env.BENCH_DATABASE_NAME ?? 'datumkeep_bench';
+/** The benchmark's AUTH_SECRET, in this process too: shops provisioned here are keyed with it
+ * (db/shop-token.ts), and the servers it starts must open them. */
+const BENCH_SECRET = (process.env.AUTH_SECRET ||= randomBytes(32).toString('hex'));
+reloadConfig();
 const SHOP_SLUG = 'bench-machining';
 const LEAD = { email: 'lead@bench.example', password: 'bench-password-not-secret' };
 
@@ -109,9 +115,18 @@ async function dropDatabase(url: string): Promise<void> {
 	}
 }
 
-/** Migrates the fresh database and seeds the scale shop with a lead to sign in as. */
+/**
+ * Migrates the fresh database and seeds the scale shop with a lead to sign in as, the way
+ * `npm start` does: the least-privilege roles first (scripts/db-roles.ts), then migrations and
+ * seed as the owner role, so the servers can log in as the app role (docs/SECURITY.md).
+ */
 async function seedBenchShop(url: string): Promise<void> {
-	const knex = createDb(url);
+	execFileSync(join(root, 'node_modules/.bin/tsx'), ['scripts/db-roles.ts'], {
+		cwd: root,
+		env: { ...process.env, DATABASE_URL: url },
+		stdio: ['ignore', 'ignore', 'inherit']
+	});
+	const knex = createDb(url, { role: OWNER_ROLE });
 	try {
 		await migrateAll(knex);
 		const shop = await provisionShop(knex, { name: 'Bench Machining', slug: SHOP_SLUG });
@@ -124,6 +139,14 @@ async function seedBenchShop(url: string): Promise<void> {
 			.returning('id');
 		await knex('public.memberships').insert({ user_id: u.id, shop_id: shop.id, role: 'lead' });
 		await seedScaleShop(knex, shop, SCALE.machines, SCALE.readings);
+		// BENCH_SHOP_RLS=off: the shop's row-level security switched off, to see what it costs.
+		if (process.env.BENCH_SHOP_RLS === 'off') {
+			const tables: string[] = await knex('pg_tables')
+				.where({ schemaname: shop.schemaName })
+				.pluck('tablename');
+			for (const t of tables)
+				await knex.raw('alter table ??.?? disable row level security', [shop.schemaName, t]);
+		}
 	} finally {
 		await knex.destroy();
 	}
@@ -268,8 +291,12 @@ async function main(): Promise<void> {
 		console.log(`fleet bench: built in ${((Date.now() - t) / 1000).toFixed(0)} s`);
 	}
 
-	// One secret for both servers, so the one sign-in's cookie is good on either.
-	const authSecret = randomBytes(32).toString('hex');
+	// One secret for both servers, so the one sign-in's cookie is good on either; the seed above
+	// keyed the shop with it (db/shop-token.ts).
+	const authSecret = BENCH_SECRET;
+	const appUrl = new URL(dbUrl);
+	appUrl.username = APP_ROLE;
+	appUrl.password = '';
 	const serverEnv = (port: number, origin: string, extra: NodeJS.ProcessEnv = {}) => ({
 		...process.env,
 		NODE_ENV: 'production',
@@ -277,6 +304,8 @@ async function main(): Promise<void> {
 		PORT: String(port),
 		ORIGIN: origin,
 		DATABASE_URL: dbUrl,
+		// As shipped: the least-privilege app role (scripts/env.sh would point at the dev database).
+		DATABASE_APP_URL: appUrl.toString(),
 		AUTH_SECRET: authSecret,
 		AUTH_TRUST_HOST: 'true',
 		...extra

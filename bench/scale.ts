@@ -33,7 +33,7 @@ import { Queue, QueueEvents } from 'bullmq';
 import { Redis } from 'ioredis';
 import type { Knex } from 'knex';
 import { hashPassword } from '$lib/server/auth/password';
-import { config } from '$lib/server/config';
+import { config, reloadConfig } from '$lib/server/config';
 import { createDb } from '$lib/server/db';
 import { assertLoopbackDatabase } from '$lib/server/db/loopback';
 import { migratePublic } from '$lib/server/db/migrate';
@@ -43,6 +43,10 @@ import { seedScaleShop } from '../tests/fixtures/fleet-data';
 const here = dirname(fileURLToPath(import.meta.url));
 const root = join(here, '..');
 const DB_NAME = 'datumkeep_scale_bench';
+/** The benchmark's AUTH_SECRET, in this process too: shops provisioned here are keyed with it
+ * (db/shop-token.ts), and the servers it starts must open them. */
+const BENCH_SECRET = (process.env.AUTH_SECRET ||= randomBytes(32).toString('hex'));
+reloadConfig();
 const SIZES = (process.env.BENCH_SCALE_SIZES ?? '10,100,1000').split(',').map(Number);
 const SECONDS = Number(process.env.BENCH_SECONDS ?? 8);
 const CONNECTIONS = 20;
@@ -317,7 +321,7 @@ async function main() {
 					DATABASE_URL: url,
 					QUEUE_PREFIX,
 					CLUSTER_PORT_BASE: String(PORT_BASE),
-					AUTH_SECRET: randomBytes(32).toString('hex'),
+					AUTH_SECRET: BENCH_SECRET,
 					CLUSTER_NODES: '2',
 					CLUSTER_WORKERS: '2',
 					FLEET_BOARD_CACHE: process.env.FLEET_BOARD_CACHE ?? 'on'

@@ -78,7 +78,8 @@ try {
 			'alter default privileges for role ?? in schema public grant usage, select on sequences to ??',
 			[OWNER_ROLE, grantee]
 		);
-		for (const t of ['knex_migrations', 'knex_migrations_lock']) {
+		// dk_shop_keys: the shop keys' hashes are the owner's alone (docs/SECURITY.md).
+		for (const t of ['knex_migrations', 'knex_migrations_lock', 'dk_shop_keys']) {
 			const { rows } = await knex.raw('select to_regclass(?) as t', [`public.${t}`]);
 			if (rows[0].t) await knex.raw('revoke all on table ?? from ??', [`public.${t}`, grantee]);
 		}
@@ -90,6 +91,16 @@ try {
 		for (const f of ['dk_begin_shop_schema(text)', 'dk_seal_shop_schema(text)'])
 			await knex.raw(`grant execute on function public.${f} to ??`, [APP_ROLE]);
 	}
+	// Since the shop keys (migrations/public/…_create_shop_keys): begin takes the token, and
+	// every shop role may call the check its tables' row-level security runs.
+	const { rows: keyed } = await knex.raw(
+		"select to_regprocedure('public.dk_begin_shop_schema(text, text)') as f, to_regprocedure('public.dk_shop_ok(text)') as ok"
+	);
+	if (keyed[0].f)
+		for (const f of ['dk_begin_shop_schema(text, text)', 'dk_seal_shop_schema(text)'])
+			await knex.raw(`grant execute on function public.${f} to ??`, [APP_ROLE]);
+	if (keyed[0].ok)
+		await knex.raw('grant execute on function public.dk_shop_ok(text) to ??', [SHOP_GROUP]);
 	// Shop roles for existing shop schemas (migrate seals each schema afterwards).
 	for (const schema of schemas.filter((s) => s !== 'public')) {
 		const role = shopRoleName(database, schema);

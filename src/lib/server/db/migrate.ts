@@ -2,6 +2,7 @@ import type { Knex } from 'knex';
 import { publicMigrations } from '$migrations/public/index';
 import { shopMigrations } from '$migrations/shop/index';
 import { assertShopSchema } from './schema-name';
+import { requireShopToken } from './shop-token';
 
 /** Feeds Knex's migrator from a static list, so the same code runs under tsx and in the build. */
 function staticSource(list: Record<string, Knex.Migration>): Knex.MigrationSource<string> {
@@ -54,12 +55,30 @@ export async function migrateAll(
 	for (const { schema_name } of rows) {
 		shops[schema_name] = await knex.transaction(async (trx) => {
 			const ran = await migrateShopSchema(trx, schema_name);
-			// New tables get the shop role's grants (append-only ones without UPDATE/DELETE).
+			// New tables get the shop role's grants (append-only ones without UPDATE/DELETE) and
+			// the row-level security keyed by the shop's token.
 			await trx.raw('select public.dk_seal_shop_schema(?)', [schema_name]);
+			await keyShopSchema(trx, schema_name);
 			return ran;
 		});
 	}
 	return { public: pub, shops };
+}
+
+/**
+ * Stores the SHA-256 of the shop's token (db/shop-token.ts) for its row-level security. Every
+ * migrate re-keys every schema, so schemas made before the keys existed get one, and a changed
+ * AUTH_SECRET takes effect at the next migrate. Only the owner role (or a superuser) may write
+ * the keys; the token goes as a bound parameter, never into the query text.
+ */
+export async function keyShopSchema(trx: Knex.Transaction, schema: string): Promise<void> {
+	await trx.raw(
+		`insert into public.dk_shop_keys (schema_name, token_hash)
+		values (?, sha256(convert_to(?, 'UTF8')))
+		on conflict (schema_name) do update set token_hash = excluded.token_hash, keyed_at = now()
+		where dk_shop_keys.token_hash <> excluded.token_hash`,
+		[schema, requireShopToken(schema)]
+	);
 }
 
 export const migrationNames = {

@@ -1,5 +1,6 @@
 import type { Knex } from 'knex';
 import { assertShopSchema } from './schema-name';
+import { shopToken } from './shop-token';
 
 /**
  * Least-privilege PostgreSQL roles (issue 13; docs/SECURITY.md):
@@ -13,6 +14,9 @@ import { assertShopSchema } from './schema-name';
  *   (`SET LOCAL ROLE`), so a query inside a shop's transaction that names another shop's schema
  *   is refused by PostgreSQL. (A superuser session — scripts, integration tests — is left as
  *   it is; tests/integration/db-roles.test.ts logs in as the app role.)
+ * - the app role may still `SET ROLE` to any shop's role, so every shop table has a second
+ *   lock: row-level security that opens only for the shop's token (db/shop-token.ts), which
+ *   enterShop sets beside the role and SQL cannot forge.
  * - `datumkeep_shop`: what every shop role may do in `public`.
  * Created by scripts/db-roles.ts (run by npm start and npm test as the superuser).
  */
@@ -49,9 +53,14 @@ export async function enterShop(trx: Knex.Transaction, schemaName: string): Prom
 	const role = shopRoleName(databaseOf(trx), schemaName);
 	// The app role (never a superuser) always becomes the shop's role. A superuser session (the
 	// seed script, integration tests that inject faults with their own DDL) keeps its rights.
+	// The token opens the shop's row-level security (db/shop-token.ts); with no AUTH_SECRET it
+	// is empty and the shop's tables refuse the app role with a message saying so. Always a
+	// bound parameter: the query text (visible to other sessions of the app role in
+	// pg_stat_activity) must never hold it. Transaction-local, like the role.
 	await trx.raw(
-		"select set_config('role', ?, true) where current_setting('is_superuser') = 'off'",
-		[role]
+		`select set_config('datumkeep.shop_token', ?, true),
+			(select set_config('role', ?, true) where current_setting('is_superuser') = 'off')`,
+		[shopToken(schemaName) ?? '', role]
 	);
 	await trx.raw('set local search_path to ??, public', [schemaName]);
 }
@@ -59,5 +68,6 @@ export async function enterShop(trx: Knex.Transaction, schemaName: string): Prom
 /** Back to the login role and `public` for the rest of the transaction. */
 export async function leaveShop(trx: Knex.Transaction): Promise<void> {
 	await trx.raw('set local role none');
+	await trx.raw("select set_config('datumkeep.shop_token', '', true)");
 	await trx.raw('set local search_path to public');
 }

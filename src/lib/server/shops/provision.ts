@@ -2,6 +2,7 @@ import type { Knex } from 'knex';
 import { migrateShopSchema } from '../db/migrate';
 import { OWNER_ROLE } from '../db/roles';
 import { shopSchemaName } from '../db/schema-name';
+import { requireShopToken } from '../db/shop-token';
 
 export interface NewShop {
 	name: string;
@@ -37,7 +38,12 @@ export async function provisionShop(
 		// The app role may not create schemas or own tables: the owner role makes the schema and
 		// the shop's role, the migrations run, then everything is handed to the owner role and
 		// the shop's role gets its grants (migrations/public/…_create_shop_provisioning_functions).
-		await trx.raw('select public.dk_begin_shop_schema(?)', [schemaName]);
+		// …and keeps the SHA-256 of the shop's token, the key to its row-level security
+		// (db/shop-token.ts). A bound parameter: the token never appears in the query text.
+		await trx.raw('select public.dk_begin_shop_schema(?, ?)', [
+			schemaName,
+			requireShopToken(schemaName)
+		]);
 		const { rows } = await trx.raw("select current_setting('is_superuser') = 'on' as superuser");
 		// A superuser (the seed script, tests) creates as the owner role, never as itself.
 		if (rows[0].superuser) await trx.raw('set local role ??', [OWNER_ROLE]);
