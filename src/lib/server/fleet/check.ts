@@ -85,42 +85,43 @@ export async function runShopCheck(
 	};
 	const stamp = localStamp(checkedAt, shop.timeZone);
 	const note = { comment: `no longer found by the check at ${stamp}` };
+	const finish = (trx: Knex.Transaction) =>
+		trx('check_runs').where({ job_id: run.jobId }).update({
+			status: 'done',
+			finished_at: trx.fn.now(),
+			machines: summary.machines,
+			opened: summary.opened,
+			still_open: summary.stillOpen,
+			resolved: summary.resolved
+		});
 	let done = 0;
 	// Set-based (./check-batch.ts): a batch of machines read in a dozen statements, judged in
-	// memory, stored with one upsert and one resolve, in one transaction.
+	// memory, stored with one upsert and one resolve, in one transaction — the last batch's
+	// also marks the run done, so the findings and "done" commit together.
 	for (let i = 0; i < machines.length; i += CHECK_BATCH) {
 		const batch = machines.slice(i, i + CHECK_BATCH);
-		const r = await withShop(
+		const last = i + CHECK_BATCH >= machines.length;
+		await withShop(
 			shop,
-			async (trx) =>
-				storeFindingsMany(
+			async (trx) => {
+				const hours = await readbackHours(trx, shop.id);
+				const r = await storeFindingsMany(
 					trx,
-					await findingsOfMachines(trx, batch, checkedAt, await readbackHours(trx, shop.id)),
+					await findingsOfMachines(trx, batch, checkedAt, hours),
 					checkedAt,
 					note
-				),
+				);
+				summary.opened += r.opened;
+				summary.stillOpen += r.stillOpen;
+				summary.resolved += r.resolved;
+				if (last) await finish(trx);
+			},
 			knex
 		);
-		summary.opened += r.opened;
-		summary.stillOpen += r.stillOpen;
-		summary.resolved += r.resolved;
 		done += batch.length;
 		await run.onProgress?.(done, machines.length);
 	}
-
-	await withShop(
-		shop,
-		(trx) =>
-			trx('check_runs').where({ job_id: run.jobId }).update({
-				status: 'done',
-				finished_at: trx.fn.now(),
-				machines: summary.machines,
-				opened: summary.opened,
-				still_open: summary.stillOpen,
-				resolved: summary.resolved
-			}),
-		knex
-	);
+	if (machines.length === 0) await withShop(shop, finish, knex);
 	return summary;
 }
 
