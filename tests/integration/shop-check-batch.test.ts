@@ -73,10 +73,40 @@ describe('the set-based shop check and the machine-by-machine one agree', async 
 
 	for (const shop of demo) {
 		// A day after the seed: ages and unverified read-backs have grown, so more kinds appear.
-		for (const days of [0, 1, 40]) {
-			it(`${shop.slug}, judged ${days} days on: same findings, same stored rows`, async () => {
+		for (const [days, masterTool] of [
+			[0, false],
+			[1, false],
+			[40, false],
+			[1, true]
+		] as const) {
+			const how = masterTool ? ', its first machine switched to master-tool' : '';
+			it(`${shop.slug}, judged ${days} days on${how}: same findings, same stored rows`, async () => {
 				const at = new Date(Date.now() + days * 86_400_000);
 				const result = await rolledBack(shop, async (trx) => {
+					if (masterTool) {
+						// The master tool's touch (R + L_m) enters the clearance planes: the master is
+						// the tool with the newest touch on the first machine.
+						const [first] = await trx('machines').whereNull('archived_at').orderBy('id');
+						const touched = await trx('readings as r')
+							.join('tools as t', 't.id', 'r.tool_id')
+							.where('r.machine_id', first.id)
+							.orderBy('r.taken_at', 'desc')
+							.first('t.h_number');
+						const h = touched?.h_number ?? 1;
+						await trx('machines')
+							.where({ id: first.id })
+							.update({ convention: 'master-tool', master_tool_h: h });
+						// The master's own offset is 0 in this convention (the engine refuses others).
+						await trx('offset_versions').insert({
+							machine_id: first.id,
+							register_kind: 'tool',
+							register: String(h),
+							value: 0,
+							units: first.units,
+							convention: 'master-tool',
+							reference_version: 1
+						});
+					}
 					const machines = (await trx('machines').whereNull('archived_at').orderBy('id')).map(
 						toMachineRecord
 					);
