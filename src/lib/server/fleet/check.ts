@@ -86,14 +86,17 @@ export async function runShopCheck(
 	const stamp = localStamp(checkedAt, shop.timeZone);
 	const note = { comment: `no longer found by the check at ${stamp}` };
 	const finish = (trx: Knex.Transaction) =>
-		trx('check_runs').where({ job_id: run.jobId }).update({
-			status: 'done',
-			finished_at: trx.fn.now(),
-			machines: summary.machines,
-			opened: summary.opened,
-			still_open: summary.stillOpen,
-			resolved: summary.resolved
-		});
+		trx('check_runs')
+			.where({ job_id: run.jobId })
+			.update({
+				status: 'done',
+				// The clock, not now(): now() is when this (last batch's) transaction began.
+				finished_at: trx.raw('clock_timestamp()'),
+				machines: summary.machines,
+				opened: summary.opened,
+				still_open: summary.stillOpen,
+				resolved: summary.resolved
+			});
 	let done = 0;
 	// Set-based (./check-batch.ts): a batch of machines read in a dozen statements, judged in
 	// memory, stored with one upsert and one resolve, in one transaction — the last batch's
