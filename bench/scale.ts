@@ -7,13 +7,16 @@
  * (tests/fixtures/fleet-data.ts without the per-shop ANALYZE): 3 machines with 20 tools and 60
  * readings each, and every 20th shop 50 machines with 1,000 readings. At each size:
  *
- * - sign-up: the median time of `provisionShop` over the last 10 shops made;
+ * - sign-up: the time of `provisionShop` for each of the last 3 shops made, one by one (the
+ *   others are grown BENCH_SCALE_CONCURRENCY, default 6, at a time, also by `provisionShop`);
  * - the catalog: database size, pg_class rows, the size of pg_catalog itself;
  * - migrating every shop schema for one new shop migration (an added column and index), one
  *   transaction per schema through Knex's migrator, as `npm run migrate` does;
  * - the nightly checks of every shop: one `nightly` job per shop on the shop-checks queue of
  *   `npm run cluster`'s 2 workers (2 jobs at a time each), wall time until all are done, and
- *   where the time goes (per-shop check time for small and big shops, from check_runs);
+ *   where the time goes (per-shop check time for small and big shops, from check_runs), and
+ *   the goal's shape (1,000 shops × 50 machines, not grown here) EXTRAPOLATED at 1,000 shops
+ *   from the wall time and the per-machine check cost (see nightlyChecks);
  * - the fleet board API of a 50-machine shop through HAProxy: round robin over 2 app nodes,
  *   and pinned to 1 node (`x-datumkeep-pin`), in turns twice, BENCH_SECONDS (8) each, 20 connections.
  *
@@ -22,7 +25,7 @@
  * Figures go to the console and bench/out/scale.json; docs/PERFORMANCE.md explains them. The
  * database is dropped at the end unless BENCH_KEEP_DB=1.
  */
-import { spawn, type ChildProcess } from 'node:child_process';
+import { execFileSync, spawn, type ChildProcess } from 'node:child_process';
 import { randomBytes } from 'node:crypto';
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { cpus, loadavg } from 'node:os';
@@ -37,6 +40,7 @@ import { config, reloadConfig } from '$lib/server/config';
 import { createDb } from '$lib/server/db';
 import { assertLoopbackDatabase } from '$lib/server/db/loopback';
 import { migratePublic } from '$lib/server/db/migrate';
+import { OWNER_ROLE } from '$lib/server/db/roles';
 import { provisionShop, type ProvisionedShop } from '$lib/server/shops/provision';
 import { seedScaleShop } from '../tests/fixtures/fleet-data';
 
@@ -55,7 +59,7 @@ const PORT_BASE = Number(
 	process.env.BENCH_CLUSTER_PORT_BASE ?? Number(process.env.CLUSTER_PORT_BASE ?? 4700) + 40
 );
 const QUEUE_PREFIX = `${process.env.QUEUE_PREFIX ?? 'datumkeep'}-scale`;
-const GROW_CONCURRENCY = Number(process.env.BENCH_SCALE_CONCURRENCY ?? 4);
+const GROW_CONCURRENCY = Number(process.env.BENCH_SCALE_CONCURRENCY ?? 6);
 const SIGNUPS = 3;
 const LEAD = { email: 'lead@scale.example', password: 'scale-bench-password' };
 
@@ -65,7 +69,8 @@ const la = () =>
 	loadavg()
 		.map((l) => l.toFixed(2))
 		.join(' ');
-const say = (s: string) => console.log(`scale bench: ${s}`);
+const say = (s: string) =>
+	console.log(`scale bench ${new Date().toISOString().slice(11, 19)}: ${s}`);
 
 function benchUrl(): string {
 	const url = new URL(config.databaseUrl);
@@ -198,6 +203,17 @@ async function nightlyChecks(knex: Knex, queue: Queue, size: number, shops: Prov
 		.filter((r: { machines: number }) => r.machines >= 50)
 		.map((r: { ms: number }) => Number(r.ms));
 	const machines = done.reduce((n: number, r: { machines: number }) => n + r.machines, 0);
+	const sumMs = done.reduce((n: number, r: { ms: number }) => n + Number(r.ms), 0);
+	const overlap = sumMs / wallMs;
+	// The goal's shape (1,000 shops × 50 machines) is not grown here: EXTRAPOLATED (at the
+	// 1,000-shop size) as this run's wall time plus the machines it lacks at the per-machine
+	// cost (big minus small shops' median check time over the 47 machines between them), added
+	// serially unless the checks overlapped (2 workers × 2 jobs, but 2 shared cores).
+	const perMachineMs = (median(big) - median(small)) / 47;
+	const goalShapeEstimateS =
+		size === 1000
+			? secs(wallMs + ((50_000 - machines) * perMachineMs) / Math.max(overlap, 1))
+			: null;
 	return {
 		wallS: secs(wallMs),
 		shopsDone: done.length,
@@ -206,7 +222,10 @@ async function nightlyChecks(knex: Knex, queue: Queue, size: number, shops: Prov
 		machinesPerSecond: Math.round(machines / (wallMs / 1000)),
 		smallShopMedianMs: Math.round(median(small)),
 		bigShopMedianMs: Math.round(median(big)),
-		sumOfShopCheckS: secs(done.reduce((n: number, r: { ms: number }) => n + Number(r.ms), 0))
+		sumOfShopCheckS: secs(sumMs),
+		overlap: Math.round(overlap * 100) / 100,
+		perMachineMs: Math.round(perMachineMs * 10) / 10,
+		goalShapeEstimateS
 	};
 }
 
@@ -267,13 +286,27 @@ async function main() {
 		await k.raw('drop database if exists ?? with (force)', [DB_NAME]);
 		await k.raw('create database ??', [DB_NAME]);
 	});
+	// The least-privilege roles and this database's grants, as npm start and npm test make them
+	// (provisionShop creates a shop's schema as the owner role).
+	execFileSync(join(root, 'node_modules/.bin/tsx'), [join(root, 'scripts/db-roles.ts')], {
+		cwd: root,
+		env: { ...process.env, DATABASE_URL: url },
+		stdio: 'inherit'
+	});
 	const knex = createDb(url);
 	let cluster: ChildProcess | undefined;
 	const redis = new Redis(config.redisUrl, { maxRetriesPerRequest: null });
 	const queue = new Queue('shop-checks', { connection: redis, prefix: QUEUE_PREFIX });
 	const results: Record<string, unknown>[] = [];
 	try {
-		await migratePublic(knex);
+		// As scripts/migrate.ts: logged in as the superuser, migrating as the owner role (so the
+		// provisioning functions, security definer, create shop schemas as the owner role).
+		const owner = createDb(url, { role: OWNER_ROLE });
+		try {
+			await migratePublic(owner);
+		} finally {
+			await owner.destroy();
+		}
 		const [lead] = await knex('public.users')
 			.insert({
 				email: LEAD.email,

@@ -2,9 +2,10 @@ import type { Knex } from 'knex';
 import type { Finding } from '$lib/offsets';
 import { db } from '../db';
 import { withShop } from '../db/tenant';
-import { machineState, toMachineRecord } from '../offsets/machine-state';
+import { toMachineRecord } from '../offsets/machine-state';
 import type { ShopInfo } from '../shops/queries';
-import { readbackFindings, readbackHours } from '../readbacks/findings';
+import { readbackHours } from '../readbacks/findings';
+import { findingsOfMachines, storeFindingsMany } from './check-batch';
 
 /**
  * The background offset check of one shop (nightly, or "Check now"): the engine's `checkOffsets` (through
@@ -20,10 +21,14 @@ import { readbackFindings, readbackHours } from '../readbacks/findings';
  *   was last seen before this check, so an older job retried late cannot undo a newer one;
  * - a problem found again after it was resolved (by hand or by a check) is a new row linked to
  *   the resolved one, if the check looked after the resolution.
- * Writes that change a machine's offsets re-run its checks at once (./recheck.ts).
- * Each machine is its own transaction: a crash half-way leaves whole machines done, and the
- * retry does them again to the same result.
+ * Writes that change a machine's offsets re-run its checks at once (./recheck.ts, machine by
+ * machine through machineState and storeFindings; the same findings as here).
+ * Each batch of CHECK_BATCH machines is its own transaction: a crash half-way leaves whole
+ * batches done, and the retry does them again to the same result.
  */
+/** Machines per transaction of the shop check (a 50-machine shop is one). */
+export const CHECK_BATCH = 100;
+
 export interface CheckRun {
 	jobId: string;
 	trigger: 'nightly' | 'manual';
@@ -79,53 +84,47 @@ export async function runShopCheck(
 		resolved: 0
 	};
 	const stamp = localStamp(checkedAt, shop.timeZone);
-	let done = 0;
-	for (const machine of machines) {
-		const r = await withShop(
-			shop,
-			async (trx) => {
-				const state = await machineState(trx, machine, checkedAt);
-				const names = new Map<string, string>();
-				for (const s of state.checkInput.setups ?? []) if (s.id && s.name) names.set(s.id, s.name);
-				// Read-backs at the control: mismatches and registers not verified in time.
-				const readback = await readbackFindings(
-					trx,
-					machine,
-					checkedAt,
-					await readbackHours(trx, shop.id)
-				);
-				const found = [...state.findings, ...readback];
-				return storeFindings(
-					trx,
-					machine.id,
-					found,
-					checkedAt,
-					{ comment: `no longer found by the check at ${stamp}` },
-					names
-				);
-			},
-			knex
-		);
-		summary.opened += r.opened;
-		summary.stillOpen += r.stillOpen;
-		summary.resolved += r.resolved;
-		done += 1;
-		await run.onProgress?.(done, machines.length);
-	}
-
-	await withShop(
-		shop,
-		(trx) =>
-			trx('check_runs').where({ job_id: run.jobId }).update({
+	const note = { comment: `no longer found by the check at ${stamp}` };
+	const finish = (trx: Knex.Transaction) =>
+		trx('check_runs')
+			.where({ job_id: run.jobId })
+			.update({
 				status: 'done',
-				finished_at: trx.fn.now(),
+				// The clock, not now(): now() is when this (last batch's) transaction began.
+				finished_at: trx.raw('clock_timestamp()'),
 				machines: summary.machines,
 				opened: summary.opened,
 				still_open: summary.stillOpen,
 				resolved: summary.resolved
-			}),
-		knex
-	);
+			});
+	let done = 0;
+	// Set-based (./check-batch.ts): a batch of machines read in a dozen statements, judged in
+	// memory, stored with one upsert and one resolve, in one transaction — the last batch's
+	// also marks the run done, so the findings and "done" commit together.
+	for (let i = 0; i < machines.length; i += CHECK_BATCH) {
+		const batch = machines.slice(i, i + CHECK_BATCH);
+		const last = i + CHECK_BATCH >= machines.length;
+		await withShop(
+			shop,
+			async (trx) => {
+				const hours = await readbackHours(trx, shop.id);
+				const r = await storeFindingsMany(
+					trx,
+					await findingsOfMachines(trx, batch, checkedAt, hours),
+					checkedAt,
+					note
+				);
+				summary.opened += r.opened;
+				summary.stillOpen += r.stillOpen;
+				summary.resolved += r.resolved;
+				if (last) await finish(trx);
+			},
+			knex
+		);
+		done += batch.length;
+		await run.onProgress?.(done, machines.length);
+	}
+	if (machines.length === 0) await withShop(shop, finish, knex);
 	return summary;
 }
 

@@ -113,18 +113,23 @@ export async function listReferences(
 		.where('r.machine_id', machineId)
 		.orderBy('r.version', 'desc')
 		.select('r.*', 'u.name as established_by_name');
-	return rows.map((r) => ({
+	return rows.map(referenceFrom);
+}
+
+/** A reference_surfaces row (with established_by_name) as a ReferenceRecord. */
+export function referenceFrom(r: Record<string, unknown>): ReferenceRecord {
+	return {
 		id: Number(r.id),
-		version: r.version,
-		instrument: r.instrument,
+		version: Number(r.version),
+		instrument: String(r.instrument),
 		height: Number(r.height),
-		location: r.location,
+		location: String(r.location),
 		gaugeLineZ: num(r.gauge_line_z),
 		establishedBy: num(r.established_by),
-		establishedByName: r.established_by_name ?? null,
+		establishedByName: (r.established_by_name as string | null) ?? null,
 		establishedAt: iso(r.established_at),
-		note: r.note
-	}));
+		note: String(r.note)
+	};
 }
 
 /**
@@ -138,25 +143,33 @@ export async function currentOffsets(
 	const rows = await trx('current_offsets')
 		.where({ machine_id: machineId })
 		.orderBy([{ column: 'register_kind' }, { column: 'register' }])
-		.select(
-			'register_kind',
-			'register',
-			'value',
-			'created_at',
-			'reference_version',
-			'reading_id',
-			'offset_version_id'
-		);
-	return rows.map((r) => ({
-		kind: r.register_kind,
-		register: r.register,
+		.select(CURRENT_OFFSET_COLUMNS);
+	return rows.map(currentOffsetFrom);
+}
+
+/** A current_offsets row as a CurrentOffset. */
+export function currentOffsetFrom(r: Record<string, unknown>): CurrentOffset {
+	return {
+		kind: r.register_kind as 'work' | 'tool',
+		register: String(r.register),
 		value: Number(r.value),
 		measuredAt: iso(r.created_at),
-		referenceVersion: r.reference_version,
+		referenceVersion: Number(r.reference_version),
 		readingId: num(r.reading_id),
 		offsetVersionId: Number(r.offset_version_id)
-	}));
+	};
 }
+
+/** The columns of current_offsets that currentOffsetFrom reads. */
+export const CURRENT_OFFSET_COLUMNS = [
+	'register_kind',
+	'register',
+	'value',
+	'created_at',
+	'reference_version',
+	'reading_id',
+	'offset_version_id'
+];
 
 /** The machine's current table in the engine's shape (its own convention and units). */
 export function tableFrom(machine: MachineRecord, offsets: CurrentOffset[]): OffsetTable {
@@ -179,34 +192,49 @@ export async function offsetHistory(
 	convention: Convention,
 	excludeReadingId?: number
 ): Promise<NonNullable<CheckInput['history']>> {
-	const rows = await trx('offset_versions as o')
-		.leftJoin('readings as r', 'r.id', 'o.reading_id')
+	const rows = await historyQuery(trx)
 		.where('o.machine_id', machineId)
 		.andWhere('o.convention', convention)
-		// A reading corrected by a later one was wrong: it is no baseline for jumps and slips.
-		.whereRaw('not exists (select 1 from readings c where c.corrects_reading_id = o.reading_id)')
-		// Nor is a value saved over a Stop (an override): the next reading is compared with the
-		// value before it, and the overridden value itself keeps its Stop (it has no record).
-		.whereRaw('coalesce(cardinality(r.overridden_findings), 0) = 0')
 		.modify((q) => {
 			if (excludeReadingId) q.whereRaw('o.reading_id is distinct from ?', [excludeReadingId]);
-		})
-		.orderBy([{ column: 'o.created_at' }, { column: 'o.id' }])
-		.select(
-			'o.register_kind',
-			'o.register',
-			'o.value',
-			'o.created_at',
-			'r.tool_changed',
-			'r.kind as reading_kind'
-		);
+		});
+	return historyFrom(rows);
+}
+
+/**
+ * The offset versions that are baselines for the engine's history checks, oldest first (the
+ * caller narrows it to a machine and its convention, or to several machines).
+ */
+export function historyQuery(trx: Knex.Transaction) {
+	return (
+		trx('offset_versions as o')
+			.leftJoin('readings as r', 'r.id', 'o.reading_id')
+			// A reading corrected by a later one was wrong: it is no baseline for jumps and slips.
+			.whereRaw('not exists (select 1 from readings c where c.corrects_reading_id = o.reading_id)')
+			// Nor is a value saved over a Stop (an override): the next reading is compared with the
+			// value before it, and the overridden value itself keeps its Stop (it has no record).
+			.whereRaw('coalesce(cardinality(r.overridden_findings), 0) = 0')
+			.orderBy([{ column: 'o.created_at' }, { column: 'o.id' }])
+			.select(
+				'o.register_kind',
+				'o.register',
+				'o.value',
+				'o.created_at',
+				'r.tool_changed',
+				'r.kind as reading_kind'
+			)
+	);
+}
+
+/** The history rows of one machine (oldest first) in the engine's shape. */
+export function historyFrom(rows: Record<string, unknown>[]): NonNullable<CheckInput['history']> {
 	const history: { work: Record<string, HistoryEntry[]>; tools: Record<string, HistoryEntry[]> } = {
 		work: {},
 		tools: {}
 	};
 	for (const r of rows) {
 		const bucket = r.register_kind === 'work' ? history.work : history.tools;
-		(bucket[r.register] ??= []).push({
+		(bucket[r.register as string] ??= []).push({
 			value: Number(r.value),
 			at: iso(r.created_at),
 			...(r.tool_changed ? { toolChange: true } : {})
@@ -240,6 +268,23 @@ export async function engineSetups(
 		.join('tools as t', 't.id', 'st.tool_id')
 		.whereIn('st.setup_id', ids)
 		.select('st.setup_id', 't.h_number');
+	return engineSetupsFrom(machine, table, geometry, { setups, fixtures, tools });
+}
+
+/** A machine's active setups with their fixtures and tools, as rows (see engineSetups). */
+export interface SetupRows {
+	setups: { id: number | string; name: string; clearance_margin: unknown }[];
+	fixtures: { setup_id: number | string; register: string; obstacle_height: unknown }[];
+	tools: { setup_id: number | string; h_number: number | string }[];
+}
+
+/** engineSetups over rows already read (the shop check reads them for every machine at once). */
+export function engineSetupsFrom(
+	machine: MachineRecord,
+	table: OffsetTable,
+	geometry: { referenceGaugeLineZ?: number | null; masterTouchZ?: number | null },
+	{ setups, fixtures, tools }: SetupRows
+): Setup[] {
 	const g = {
 		referenceGaugeLineZ: geometry.referenceGaugeLineZ ?? null,
 		masterTouchZ: geometry.masterTouchZ ?? null
@@ -304,6 +349,21 @@ export async function machineState(
 	);
 	const reference = references[0] ?? null;
 	const table = tableFrom(machine, offsets);
+	applyOverride(table, history, now, overrides);
+	const setups = await engineSetups(trx, machine, table, {
+		referenceGaugeLineZ: reference?.gaugeLineZ,
+		masterTouchZ: await masterTouchZOf(trx, machine)
+	});
+	return stateFrom(machine, reference, offsets, table, history, setups, await shopPolicy(trx), now);
+}
+
+/** A preview's "what if this value were saved?" put into the table and history in place. */
+function applyOverride(
+	table: OffsetTable,
+	history: NonNullable<CheckInput['history']>,
+	now: Date,
+	overrides?: { kind: 'work' | 'tool'; register: string; value: number; toolChange?: boolean }
+) {
 	if (overrides) {
 		(overrides.kind === 'work' ? table.work : table.tools)[overrides.register] = overrides.value;
 		const bucket = overrides.kind === 'work' ? (history.work ??= {}) : (history.tools ??= {});
@@ -313,10 +373,22 @@ export async function machineState(
 			...(overrides.toolChange ? { toolChange: true } : {})
 		});
 	}
-	const setups = await engineSetups(trx, machine, table, {
-		referenceGaugeLineZ: reference?.gaugeLineZ,
-		masterTouchZ: await masterTouchZOf(trx, machine)
-	});
+}
+
+/**
+ * The pure end of machineState: the engine's input and findings from what was read. The shop
+ * check (fleet/check-batch.ts) reads the same things for all machines at once and calls this.
+ */
+export function stateFrom(
+	machine: MachineRecord,
+	reference: ReferenceRecord | null,
+	offsets: CurrentOffset[],
+	table: OffsetTable,
+	history: NonNullable<CheckInput['history']>,
+	setups: Setup[],
+	policy: CheckInput['policy'],
+	now: Date
+): MachineState {
 	const used = {
 		work: [...new Set(setups.flatMap((s) => s.fixtures.map((f) => f.register)))],
 		tools: [...new Set(setups.flatMap((s) => (s.tools ?? []).map((t) => t.h)))]
@@ -324,7 +396,7 @@ export async function machineState(
 	const checkInput: CheckInput = {
 		machine: engineMachine(machine),
 		// The shop's own limits (settings page); fields it left empty are the engine's defaults.
-		policy: await shopPolicy(trx),
+		policy,
 		table,
 		history,
 		now: now.toISOString(),

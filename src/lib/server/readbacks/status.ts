@@ -65,30 +65,32 @@ export async function machineVerification(
 		order by c.register_kind desc, c.register`,
 		{ machineId }
 	);
-	return rows.map((r: Record<string, unknown>) => {
-		const offsetVersionId = Number(r.offset_version_id);
-		const state = verificationOf(
-			offsetVersionId,
-			r.readback_id === null
-				? null
-				: { offsetVersionId: Number(r.compared_version), status: String(r.status) }
-		);
-		const compared = state !== 'unverified';
-		return {
-			kind: r.register_kind as 'work' | 'tool',
-			register: String(r.register),
-			offsetVersionId,
-			value: Number(r.value),
-			changedAt: new Date(r.created_at as string).toISOString(),
-			state,
-			controlValue: compared && r.control_value !== null ? Number(r.control_value) : null,
-			readbackId: compared ? Number(r.readback_id) : null,
-			readbackAt:
-				compared && r.readback_at ? new Date(r.readback_at as string).toISOString() : null,
-			cause:
-				state === 'mismatched' ? ((r.causes as { kind: string }[] | null)?.[0]?.kind ?? null) : null
-		};
-	});
+	return rows.map(verificationRowFrom);
+}
+
+/** A row of machineVerification's query as a RegisterVerification. */
+export function verificationRowFrom(r: Record<string, unknown>): RegisterVerification {
+	const offsetVersionId = Number(r.offset_version_id);
+	const state = verificationOf(
+		offsetVersionId,
+		r.readback_id === null
+			? null
+			: { offsetVersionId: Number(r.compared_version), status: String(r.status) }
+	);
+	const compared = state !== 'unverified';
+	return {
+		kind: r.register_kind as 'work' | 'tool',
+		register: String(r.register),
+		offsetVersionId,
+		value: Number(r.value),
+		changedAt: new Date(r.created_at as string).toISOString(),
+		state,
+		controlValue: compared && r.control_value !== null ? Number(r.control_value) : null,
+		readbackId: compared ? Number(r.readback_id) : null,
+		readbackAt: compared && r.readback_at ? new Date(r.readback_at as string).toISOString() : null,
+		cause:
+			state === 'mismatched' ? ((r.causes as { kind: string }[] | null)?.[0]?.kind ?? null) : null
+	};
 }
 
 /** The registers the machine's active setups use (fixtures' work offsets and tools' H numbers). */
