@@ -9,6 +9,7 @@ import { shopRoleName } from '$lib/server/db/roles';
 import { closeServers, SHOP_MOVING_MESSAGE } from '$lib/server/db/servers';
 import { withShop, type ShopRef } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
+import { createMachine } from '$lib/server/machines/service';
 import { moveShop, type MoveStep } from '$lib/server/shops/move';
 import { schemaExists, testDb } from './db';
 import { setEnv } from './env';
@@ -221,6 +222,27 @@ describe('npm run shop:move', () => {
 		const latest = await withShop(bare, (trx) => trx('readings').max('id as id').first());
 		expect(Number(latest?.id)).toBe(id);
 		expect((await counts(b, moving.shop.schemaName)).readings).toBe(before.readings + 1);
+		// Adding a machine (plan gate at home, the machine on B) works for the moved shop too.
+		const added = await createMachine(
+			home,
+			member.shop,
+			{
+				name: 'HMC moved',
+				units: 'mm',
+				zTravel: 500,
+				resolution: 0.001,
+				controlStyle: 'iso',
+				convention: 'reference-touch',
+				notes: '',
+				instrument: '1-2-3 block',
+				height: 76.2,
+				location: '',
+				note: ''
+			},
+			moving.actor
+		);
+		expect(added.ok).toBe(true);
+		expect((await counts(b, moving.shop.schemaName)).machines).toBe(before.machines + 1);
 
 		// The other shop never moved and lost nothing (one row added above by the app role).
 		expect(await mapOf(bystander.shop.id)).toEqual({ server: 'home', moving_to: null });

@@ -3,7 +3,14 @@ import type { Knex } from 'knex';
 import { db } from './index';
 import { enterShop } from './roles';
 import { assertShopSchema } from './schema-name';
-import { multiServer, serverDb, shopIsMoving, shopServer, SHOP_MOVING_MESSAGE } from './servers';
+import {
+	HOME_SERVER,
+	multiServer,
+	serverDb,
+	shopIsMoving,
+	shopServer,
+	SHOP_MOVING_MESSAGE
+} from './servers';
 
 /** What a shop query needs to know about its shop: which schema holds its data. */
 export interface ShopRef {
@@ -60,4 +67,24 @@ export async function withShop<T>(
 	}, options);
 	if (pending !== undefined) throw pending;
 	return result;
+}
+
+/**
+ * The shop part of a transaction that also reads or locks `public` (e.g. the plan gate locks
+ * the shop's billing row, then the machine is added). A shop at home runs inside the caller's
+ * transaction, as the shop (`enterShop`), so both commit together. A shop on another server
+ * runs in a transaction of its own there, committed while the caller's (with its locks) is
+ * still open: keep the `public` part to reads and locks before it, so nothing in `public` can
+ * fail after the shop's part has committed (docs/DEPLOYMENT.md).
+ */
+export async function inShop<T>(
+	trx: Knex.Transaction,
+	shop: ShopRef,
+	fn: (trx: Knex.Transaction) => Promise<T>
+): Promise<T> {
+	assertShopSchema(shop.schemaName);
+	const server = multiServer() ? (shop.server ?? (await shopServer(trx, shop.id))) : HOME_SERVER;
+	if (server !== HOME_SERVER) return withShop({ ...shop, server }, fn);
+	await enterShop(trx, shop.schemaName);
+	return fn(trx);
 }
