@@ -124,7 +124,7 @@ export function parseEnv(env: Record<string, string | undefined>): Env {
 	const variable = String(issue.path[0]);
 	const raw = input[variable];
 	// A URL's password is never printed.
-	const shown = JSON.stringify(String(raw).replace(/(\/\/[^:/@]*:)[^@]*@/, '$1***@'));
+	const shown = JSON.stringify(String(raw).replace(/(\/\/[^:/@]*:)[^@]*@/g, '$1***@'));
 	throw new ConfigError(variable, `= ${shown} ${issue.message}.`);
 }
 
