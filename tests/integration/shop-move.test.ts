@@ -114,6 +114,26 @@ beforeAll(async () => {
 }, 120_000);
 
 afterAll(async () => {
+	// Whatever happened above, the test database is left with every shop at home (later tests
+	// and the e2e worker walk all shops, with no DATABASE_SERVERS set).
+	if (moving && (await mapOf(moving.shop.id))?.server !== 'home') {
+		const { rows } = await home.raw(
+			'select nspname from pg_namespace where nspname like ? order by 1 desc limit 1',
+			[`${moving.shop.schemaName}_moved_%`]
+		);
+		if (rows[0] && !(await schemaExists(home, moving.shop.schemaName)))
+			await home.raw('alter schema ?? rename to ??', [rows[0].nspname, moving.shop.schemaName]);
+		await home('shop_servers')
+			.where({ shop_id: moving.shop.id })
+			.update({ server: 'home', moving_to: null, moving_since: null });
+	}
+	if (moving)
+		for (const { nspname } of (
+			await home.raw('select nspname from pg_namespace where nspname like ?', [
+				`${moving.shop.schemaName}_moved_%`
+			])
+		).rows)
+			await home.raw('drop schema ?? cascade', [nspname]);
 	setEnv('DATABASE_SERVERS', undefined);
 	await closeServers();
 	await closeDb();
@@ -255,6 +275,19 @@ describe('npm run shop:move', () => {
 		const again = await moveShop({ slug: slugOf(moving), to: 'b', home, adminUrl });
 		expect(again.outcome).toBe('already-there');
 		expect(log.some((l) => l.startsWith('verified:'))).toBe(true);
+	});
+
+	it('moves it back home: the same rows, served from A again', async () => {
+		const onB = await counts(b, moving.shop.schemaName);
+		const result = await moveShop({ slug: slugOf(moving), to: 'home', home, adminUrl });
+		expect(result).toMatchObject({ outcome: 'moved', from: 'b', to: 'home' });
+		expect(await counts(home, moving.shop.schemaName)).toEqual(onB);
+		expect(await schemaExists(b, moving.shop.schemaName)).toBe(false);
+		expect(await mapOf(moving.shop.id)).toEqual({ server: 'home', moving_to: null });
+		const bare = { id: moving.shop.id, schemaName: moving.shop.schemaName };
+		const id = await addReading(bare, moving.machineId, -10.1229, app);
+		expect((await counts(home, moving.shop.schemaName)).readings).toBe(onB.readings + 1);
+		expect(id).toBeGreaterThan(0);
 	});
 });
 
