@@ -10,6 +10,7 @@ import { closeServers, SHOP_MOVING_MESSAGE } from '$lib/server/db/servers';
 import { withShop, type ShopRef } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { createMachine } from '$lib/server/machines/service';
+import { processShopCheck } from '../../workers/shop-checks/processor';
 import { moveShop, type MoveStep } from '$lib/server/shops/move';
 import { schemaExists, testDb } from './db';
 import { setEnv } from './env';
@@ -85,7 +86,7 @@ beforeAll(async () => {
 	second = await startSecondCluster();
 	await run('psql', [second.url('postgres'), '-qc', `create database ${B_DATABASE}`]);
 	// Server B set up as docs/DEPLOYMENT.md says: the roles, then the public migrations.
-	const env = { ...process.env, DATABASE_URL: second.url(B_DATABASE) };
+	const env: NodeJS.ProcessEnv = { ...process.env, DATABASE_URL: second.url(B_DATABASE) };
 	delete env.DATABASE_SERVERS;
 	delete env.DATABASE_APP_URL;
 	await run('node_modules/.bin/tsx', ['scripts/db-roles.ts'], { env });
@@ -198,6 +199,13 @@ describe('npm run shop:move', () => {
 						app
 					)
 				).toBe(String(before.readings));
+				// The worker's shop check is refused in plain words (BullMQ retries it later).
+				await expect(
+					processShopCheck(
+						{ id: 'move-check', name: 'manual', data: { shopId: moving.shop.id }, timestamp: 0 },
+						app
+					)
+				).rejects.toThrow(SHOP_MOVING_MESSAGE);
 				// Other shops carry on.
 				expect(await writableByApp(bystander)).toBe(true);
 			}
