@@ -11,7 +11,7 @@ const run = promisify(execFile);
 const BIN = '/usr/lib/postgresql/15/bin';
 
 /** A free loopback port (asked of the kernel, then let go). */
-async function freePort(): Promise<number> {
+export async function freePort(): Promise<number> {
 	return new Promise((resolve, reject) => {
 		const s = createServer();
 		s.once('error', reject);

@@ -14,7 +14,7 @@ import { processShopCheck } from '../../workers/shop-checks/processor';
 import { moveShop, type MoveStep } from '$lib/server/shops/move';
 import { schemaExists, testDb } from './db';
 import { setEnv } from './env';
-import { startSecondCluster, type SecondCluster } from './second-cluster';
+import { freePort, startSecondCluster, type SecondCluster } from './second-cluster';
 import { newTestMill } from './test-mill';
 
 /**
@@ -92,10 +92,11 @@ beforeAll(async () => {
 	await run('node_modules/.bin/tsx', ['scripts/db-roles.ts'], { env });
 	await run('node_modules/.bin/tsx', ['scripts/migrate.ts'], { env });
 	b = createDb(second.url(B_DATABASE));
-	// "down": a configured server nobody answers on (a closed loopback port).
+	// "down": a configured server nobody answers on (a loopback port the kernel just gave out
+	// and took back, so never another program's server).
 	setEnv(
 		'DATABASE_SERVERS',
-		`b=${second.url(B_DATABASE)},down=postgres://postgres@127.0.0.1:${second.port + 1}/gone_test`
+		`b=${second.url(B_DATABASE)},down=postgres://postgres@127.0.0.1:${await freePort()}/gone_test`
 	);
 
 	const mill = (slug: string) =>
