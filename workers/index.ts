@@ -35,6 +35,8 @@ async function main() {
 		console.log(`datumkeep worker: ${signal}, finishing current jobs…`);
 		await Promise.allSettled(running.map((r) => r.close()));
 		const { closeDb } = await import('$lib/server/db');
+		const { closeServers } = await import('$lib/server/db/servers');
+		await closeServers().catch(() => {});
 		await closeDb();
 		process.exit(0);
 	};

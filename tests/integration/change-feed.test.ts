@@ -136,6 +136,16 @@ describe('change notifications (real PostgreSQL)', () => {
 				/^memberships$/
 			)
 		).toContain('memberships');
+		// The shop→server map too: a move's read-only flag and new server reach every node at once.
+		expect(
+			await hear(
+				() =>
+					knex('public.shop_servers')
+						.where({ shop_id: shop.id })
+						.update({ updated_at: knex.fn.now() }),
+				/^memberships$/
+			)
+		).toContain('memberships');
 		expect(
 			await hear(
 				() => knex('public.users').where({ id: u.id }).update({ name: 'Renamed' }),
@@ -150,7 +160,7 @@ describe('change notifications (real PostgreSQL)', () => {
 			where n.nspname = 'public' and (t.tgtype & 32) <> 0`
 		);
 		const truncateTriggers = rows.map((r: { relname: string }) => r.relname);
-		expect([...truncateTriggers].sort()).toEqual(['memberships', 'shops', 'users']);
+		expect([...truncateTriggers].sort()).toEqual(['memberships', 'shop_servers', 'shops', 'users']);
 	});
 
 	it('after losing its connection says reset, is not live, and comes back listening', async () => {

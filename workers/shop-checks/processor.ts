@@ -1,6 +1,7 @@
 import type { Job } from 'bullmq';
 import type { Knex } from 'knex';
 import { db } from '$lib/server/db';
+import { shopIsMoving, SHOP_MOVING_MESSAGE } from '$lib/server/db/servers';
 import { markCheckFailed, runShopCheck, type CheckSummary } from '$lib/server/fleet/check';
 import { sendDigests, type DigestResult } from '$lib/server/fleet/digest';
 import type { ShopCheckData } from '$lib/server/queues/shop-checks';
@@ -39,6 +40,9 @@ export async function processShopCheck(
 ): Promise<ShopCheckResult | { skipped: string }> {
 	const shop = await loadShop(knex, Number(job.data.shopId));
 	if (!shop) return { skipped: 'no such shop' };
+	// A shop being moved to another database server is read-only for a few minutes: fail
+	// with a plain reason and let BullMQ's backoff try again once the move is over.
+	if (await shopIsMoving(knex, shop.id)) throw new Error(SHOP_MOVING_MESSAGE);
 	const jobId = String(job.id);
 	// A shop's first check at worker start stands in for that day's nightly run (digest too).
 	const trigger = job.name === 'nightly' || job.name === 'first-check' ? 'nightly' : 'manual';

@@ -34,6 +34,26 @@ describe('parseEnv', () => {
 		expect(e.message).toBe('Configuration: BCRYPT_COST = "twelve" must be a whole number.');
 	});
 
+	it('reads DATABASE_SERVERS as name → URL, and refuses a pair without a name or a URL', () => {
+		const env = parseEnv({
+			DATABASE_SERVERS: 'b=postgres://app@10.0.0.2:5432/dk, c-2=postgresql://app:pw@db3/dk'
+		});
+		expect(env.DATABASE_SERVERS).toEqual({
+			b: 'postgres://app@10.0.0.2:5432/dk',
+			'c-2': 'postgresql://app:pw@db3/dk'
+		});
+		for (const bad of ['postgres://app@db2/dk', 'home=postgres://db/dk', 'B=postgres://db/dk']) {
+			const e = errorFor({ DATABASE_SERVERS: bad });
+			expect(e.variable).toBe('DATABASE_SERVERS');
+			expect(e.message).toContain('must be name=postgres://… pairs');
+		}
+		// Every URL's password is hidden, not only the first one's.
+		const e = errorFor({
+			DATABASE_SERVERS: 'b=postgres://u:secret1@h1/dk,c=postgres://u:secret2@h2/dk,oops'
+		});
+		expect(e.message).not.toMatch(/secret1|secret2/);
+	});
+
 	it('names a number out of range', () => {
 		const e = errorFor({ FAKE_SES_PORT: '70000' });
 		expect(e.variable).toBe('FAKE_SES_PORT');

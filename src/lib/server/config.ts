@@ -41,6 +41,26 @@ const whole = (min: number, max = Number.MAX_SAFE_INTEGER) =>
 			message: `must be between ${min} and ${max === Number.MAX_SAFE_INTEGER ? 'any size' : max}`
 		});
 const port = whole(1, 65535);
+/** Other database servers: `name=postgres://…` pairs separated by commas. */
+const serverList = z.string().transform((s, ctx) => {
+	const servers: Record<string, string> = {};
+	for (const part of s
+		.split(',')
+		.map((p) => p.trim())
+		.filter(Boolean)) {
+		const m = /^([a-z][a-z0-9_-]{0,39})=(postgres(?:ql)?:\/\/.+)$/.exec(part);
+		if (!m || m[1] === 'home' || URL.canParse(m[2]) === false) {
+			ctx.addIssue({
+				code: 'custom',
+				message:
+					'must be name=postgres://… pairs separated by commas (names: lower-case letters, digits, - and _; not "home")'
+			});
+			return z.NEVER;
+		}
+		servers[m[1]] = m[2];
+	}
+	return servers;
+});
 const flag = z.enum(['0', '1'], { message: 'must be 0 or 1' });
 
 /** Every variable the server code reads. scripts/, fakes/, bench/ and the test configs keep their own. */
@@ -51,6 +71,8 @@ export const envSchema = z.object({
 	DATABASE_APP_URL: url(['postgres', 'postgresql']).optional(),
 	DATABASE_DIRECT_URL: url(['postgres', 'postgresql']).optional(),
 	DATABASE_POOL_MAX: whole(1, 1000).default(10),
+	DATABASE_SERVERS: serverList.optional(),
+	DATABASE_SERVERS_ADMIN: serverList.optional(),
 	DATUMKEEP_ALLOW_REMOTE_DB: flag.default('0'),
 	REDIS_URL: url(['redis', 'rediss']).default('redis://127.0.0.1:63799/0'),
 	QUEUE_PREFIX: z
@@ -102,7 +124,7 @@ export function parseEnv(env: Record<string, string | undefined>): Env {
 	const variable = String(issue.path[0]);
 	const raw = input[variable];
 	// A URL's password is never printed.
-	const shown = JSON.stringify(String(raw).replace(/(\/\/[^:/@]*:)[^@]*@/, '$1***@'));
+	const shown = JSON.stringify(String(raw).replace(/(\/\/[^:/@]*:)[^@]*@/g, '$1***@'));
 	throw new ConfigError(variable, `= ${shown} ${issue.message}.`);
 }
 
@@ -145,6 +167,22 @@ export const config = {
 	 */
 	get databaseDirectUrl(): string {
 		return env().DATABASE_DIRECT_URL ?? this.appDatabaseUrl;
+	},
+	/**
+	 * The other PostgreSQL servers that may hold shop schemas (DATABASE_SERVERS,
+	 * `name=postgres://…` pairs): name → the URL the app logs in with there. The home server
+	 * (`home`) is DATABASE_APP_URL; public.shop_servers says which server holds which shop.
+	 */
+	get databaseServers(): Record<string, string> {
+		return env().DATABASE_SERVERS ?? {};
+	},
+	/**
+	 * What scripts that move or migrate shop schemas log in as on the other servers
+	 * (DATABASE_SERVERS_ADMIN, same form; the superuser or a DBA role, as DATABASE_URL is at
+	 * home); a server missing there falls back to its DATABASE_SERVERS URL.
+	 */
+	get databaseServersAdmin(): Record<string, string> {
+		return { ...(env().DATABASE_SERVERS ?? {}), ...(env().DATABASE_SERVERS_ADMIN ?? {}) };
 	},
 	/** Connections per Knex pool (DATABASE_POOL_MAX, 10). */
 	get databasePoolMax(): number {

@@ -2,6 +2,7 @@ import { error, redirect, type RequestEvent } from '@sveltejs/kit';
 import { can, type Capability, type Role } from '$lib/permissions';
 import { db } from './db';
 import { changeFeed, perProcess } from './db/change-feed';
+import { SHOP_MOVING_MESSAGE } from './db/servers';
 import { createMembershipCache, membershipKey } from './shops/membership-cache';
 import { formerMembership } from './shops/lifecycle';
 import { findMembership, type ShopInfo } from './shops/queries';
@@ -84,6 +85,12 @@ export async function requireMember(
 			423,
 			'This shop is set to be deleted and is read-only. Its owner can restore it on the Settings page.'
 		);
+	}
+	// A shop being moved to another database server (npm run shop:move) is read-only for a few
+	// minutes. Writes read the membership from the database, so this holds from the moment the
+	// move starts, on every node; the shop's role has lost its write grants besides (withShop).
+	if (membership.shop.movingTo && !onlyReads(event.request.method)) {
+		error(503, SHOP_MOVING_MESSAGE);
 	}
 	return { user, shop: { ...membership.shop }, role: membership.role };
 }

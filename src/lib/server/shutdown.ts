@@ -1,5 +1,6 @@
 import { closeDb } from './db';
 import { stopChangeFeed } from './db/change-feed';
+import { closeServers } from './db/servers';
 import { closeProgramQueue } from './queues/program-check';
 import { closeAppQueue } from './queues/shop-checks';
 import { closeLifecycleQueue } from './queues/shop-lifecycle';
@@ -20,6 +21,7 @@ export async function closeServerResources(): Promise<void> {
 		closeLifecycleQueue(),
 		closeRedis()
 	]);
+	await closeServers().catch(() => {});
 	await closeDb().catch(() => {});
 	for (const r of results) if (r.status === 'rejected') console.error('shutdown:', r.reason);
 	setTimeout(() => process.exit(0), 5_000).unref();

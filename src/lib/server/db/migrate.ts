@@ -42,18 +42,31 @@ export async function migrateShopSchema(trx: Knex.Transaction, schema: string): 
 	return ran as string[];
 }
 
-/** Migrates `public`, then every shop schema, each in its own transaction. */
+/**
+ * Migrates `public`, then every shop schema, each in its own transaction — on the server that
+ * holds it (public.shop_servers). `servers` gives the connection for a server other than home;
+ * a shop on a server it does not give is left alone and listed in `skipped` (never re-made at
+ * home: its schema lives elsewhere).
+ */
 export async function migrateAll(
-	knex: Knex
-): Promise<{ public: string[]; shops: Record<string, string[]> }> {
+	knex: Knex,
+	servers: (name: string) => Knex | undefined = () => undefined
+): Promise<{ public: string[]; shops: Record<string, string[]>; skipped: string[] }> {
 	const pub = await migratePublic(knex);
 	const shops: Record<string, string[]> = {};
-	const rows: { schema_name: string }[] = await knex('shops')
-		.whereNotNull('schema_name')
-		.select('schema_name')
-		.orderBy('id');
-	for (const { schema_name } of rows) {
-		shops[schema_name] = await knex.transaction(async (trx) => {
+	const skipped: string[] = [];
+	const rows: { schema_name: string; server: string | null }[] = await knex('shops as s')
+		.leftJoin('shop_servers as ss', 'ss.shop_id', 's.id')
+		.whereNotNull('s.schema_name')
+		.select('s.schema_name', 'ss.server')
+		.orderBy('s.id');
+	for (const { schema_name, server } of rows) {
+		const on = !server || server === 'home' ? knex : servers(server);
+		if (!on) {
+			skipped.push(`${schema_name} (on ${server})`);
+			continue;
+		}
+		shops[schema_name] = await on.transaction(async (trx) => {
 			const ran = await migrateShopSchema(trx, schema_name);
 			// New tables get the shop role's grants (append-only ones without UPDATE/DELETE) and
 			// the row-level security keyed by the shop's token.
@@ -62,7 +75,7 @@ export async function migrateAll(
 			return ran;
 		});
 	}
-	return { public: pub, shops };
+	return { public: pub, shops, skipped };
 }
 
 /**

@@ -124,6 +124,16 @@ export interface ShopRow {
 	first_steps_dismissed_at: Date | null;
 }
 
+/** public.shop_servers: which PostgreSQL server holds a shop's schema (docs/DEPLOYMENT.md). */
+export interface ShopServerRow {
+	shop_id: Int8;
+	server: string;
+	moving_to: string | null;
+	moving_since: Date | null;
+	moved_from: string | null;
+	updated_at: Date;
+}
+
 export interface UserRow {
 	id: Int8;
 	email: string;
@@ -143,6 +153,7 @@ export interface PublicTables {
 	password_resets: PasswordResetRow;
 	shop_exports: ShopExportRow;
 	shop_lifecycle_log: ShopLifecycleLogRow;
+	shop_servers: ShopServerRow;
 	shops: ShopRow;
 	users: UserRow;
 }

@@ -2,6 +2,7 @@ import { promisify } from 'node:util';
 import { gzip } from 'node:zlib';
 import { config } from '../config';
 import { changeFeed, perProcess } from '../db/change-feed';
+import { HOME_SERVER } from '../db/servers';
 import { withShop, type ShopRef } from '../db/tenant';
 import { boardAges } from '../shops/settings';
 import { fleetBoard } from './board';
@@ -41,7 +42,9 @@ export function preparedFleetBoard(shop: ShopRef): Promise<PreparedBoard> {
 			gzip: new Uint8Array(zipped.buffer, zipped.byteOffset, zipped.byteLength) as Bytes
 		};
 	};
-	if (!config.fleetBoardCache) return build();
+	// A shop on another database server announces its changes there, and the change feed
+	// listens at home only (docs/DEPLOYMENT.md): its board is built on every call.
+	if (!config.fleetBoardCache || (shop.server ?? HOME_SERVER) !== HOME_SERVER) return build();
 	const cache = perProcess('fleetBoards', () =>
 		createBoardCache<PreparedBoard>({ feed: changeFeed() })
 	);

@@ -4,8 +4,7 @@ import type { machineFormSchema, newMachineSchema } from '$lib/schemas/machine';
 import type { Actor } from '../actor';
 import { audit } from '../audit';
 import { assertCanAddMachine } from '../billing/gate';
-import type { ShopRef } from '../db/tenant';
-import { enterShop } from '../db/roles';
+import { inShop, type ShopRef } from '../db/tenant';
 
 /** The extended work offset settings may be left out (0, addressed as G54.1 P). */
 type ExtendedOptional<T> = Omit<T, 'extendedWorkOffsets' | 'extendedAddress'> &
@@ -35,38 +34,41 @@ export async function createMachine(
 		return await knex.transaction(async (trx) => {
 			const gate = await assertCanAddMachine(trx, shop);
 			if (!gate.ok) return { ok: false, message: gate.message };
-			await enterShop(trx, shop.schemaName);
-			const [row] = await trx('machines')
-				.insert({
-					name: input.name,
-					units: input.units,
-					z_travel: input.zTravel,
-					resolution: input.resolution,
-					control_style: input.controlStyle,
-					extended_work_offsets: input.extendedWorkOffsets ?? 0,
-					extended_address: input.extendedAddress ?? 'G54.1 P',
-					convention: input.convention,
-					notes: input.notes
-				})
-				.returning('id');
-			const id = Number(row.id);
-			await trx('reference_surfaces').insert({
-				machine_id: id,
-				version: 1,
-				instrument: input.instrument,
-				height: input.height,
-				location: input.location,
-				gauge_line_z: input.gaugeLineZ ?? null,
-				established_by: by.id,
-				note: input.note
-			});
-			await audit(trx, {
-				actorUserId: by.id,
-				actorEmail: by.email,
-				action: 'machine.created',
-				target: input.name,
-				detail: { units: input.units, zTravel: input.zTravel, convention: input.convention },
-				ip
+			// A shop on another database server adds the machine there (db/tenant.ts inShop).
+			const id = await inShop(trx, shop, async (trx) => {
+				const [row] = await trx('machines')
+					.insert({
+						name: input.name,
+						units: input.units,
+						z_travel: input.zTravel,
+						resolution: input.resolution,
+						control_style: input.controlStyle,
+						extended_work_offsets: input.extendedWorkOffsets ?? 0,
+						extended_address: input.extendedAddress ?? 'G54.1 P',
+						convention: input.convention,
+						notes: input.notes
+					})
+					.returning('id');
+				const id = Number(row.id);
+				await trx('reference_surfaces').insert({
+					machine_id: id,
+					version: 1,
+					instrument: input.instrument,
+					height: input.height,
+					location: input.location,
+					gauge_line_z: input.gaugeLineZ ?? null,
+					established_by: by.id,
+					note: input.note
+				});
+				await audit(trx, {
+					actorUserId: by.id,
+					actorEmail: by.email,
+					action: 'machine.created',
+					target: input.name,
+					detail: { units: input.units, zTravel: input.zTravel, convention: input.convention },
+					ip
+				});
+				return id;
 			});
 			return { ok: true as const, id };
 		});

@@ -1,6 +1,7 @@
 import type { Knex } from 'knex';
 import { migrateShopSchema } from '../db/migrate';
 import { OWNER_ROLE } from '../db/roles';
+import { HOME_SERVER } from '../db/servers';
 import { shopSchemaName } from '../db/schema-name';
 import { requireShopToken } from '../db/shop-token';
 
@@ -35,6 +36,8 @@ export async function provisionShop(
 		const id = Number(row.id);
 		const schemaName = shopSchemaName(id);
 		await trx('shops').where({ id }).update({ schema_name: schemaName });
+		// New shops start on the home server (public.shop_servers; npm run shop:move moves one).
+		await trx('shop_servers').insert({ shop_id: id, server: HOME_SERVER });
 		// The app role may not create schemas or own tables: the owner role makes the schema and
 		// the shop's role, the migrations run, then everything is handed to the owner role and
 		// the shop's role gets its grants (migrations/public/…_create_shop_provisioning_functions).
