@@ -17,6 +17,7 @@ import * as m1804 from './20261218090400_add_first_steps_to_shops';
 import * as m1301 from './20261213090000_add_session_generation_to_users';
 import * as m1302 from './20261213090100_create_shop_provisioning_functions';
 import * as m2201 from './20261222090000_create_shop_drop_function';
+import * as m270301 from './20270103090000_add_wear_limit_to_shops';
 
 /**
  * The public-schema migrations, in order. Listed by hand (not read from the folder) so the
@@ -41,5 +42,6 @@ export const publicMigrations: Record<string, Knex.Migration> = {
 	'20261218090400_add_first_steps_to_shops': m1804,
 	'20261213090000_add_session_generation_to_users': m1301,
 	'20261213090100_create_shop_provisioning_functions': m1302,
-	'20261222090000_create_shop_drop_function': m2201
+	'20261222090000_create_shop_drop_function': m2201,
+	'20270103090000_add_wear_limit_to_shops': m270301
 };

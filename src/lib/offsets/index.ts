@@ -190,6 +190,8 @@ export {
 	wearBeyondLimit,
 	effectiveValue,
 	DEFAULT_WEAR_LIMIT,
+	WEAR_LIMIT_RANGE,
+	wearLimitIn,
 	MEASURED_FEATURES,
 	type WearProposal,
 	type WearRegister,
