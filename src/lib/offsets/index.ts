@@ -163,6 +163,7 @@ export {
 } from './parse-load-program';
 export {
 	compareReadback,
+	componentRowLabel,
 	registerLabel,
 	READBACK_CAUSES,
 	READBACK_CAUSE_TITLE,
@@ -171,6 +172,8 @@ export {
 	type ReadbackInput,
 	type ReadbackRow,
 	type ReadbackValues,
+	type ReadbackComponent,
+	type ExpectedComponents,
 	type OneSided
 } from './readback';
 export {
