@@ -8,7 +8,7 @@
 import type { Knex } from 'knex';
 import { findingTitle, formatWithUnits, type CutterRegisterMode } from '$lib/offsets';
 import { audit } from '../audit';
-import { resolveOverride } from '../fleet/recheck';
+import { recheckMachine, resolveOverride } from '../fleet/recheck';
 import type { MachineRecord } from '../offsets/machine-state';
 import { ReadingInputError } from '../readings/input';
 import { requireOverride, type OverrideChoice } from '../readings/override';
@@ -240,6 +240,9 @@ export async function writeComponentVersion(
 			}
 		);
 	}
+	// Findings follow the data: the machine's checks (read-back mismatches of this component
+	// included) run again in this transaction, as after a reading.
+	await recheckMachine(trx, machine, { what: `the new value of ${label}`, by: actor.id });
 	return id;
 }
 
