@@ -20,6 +20,7 @@ import * as m2201 from './20261222090000_create_shop_drop_function';
 import * as m3001 from './20261230090000_create_pending_signups';
 import * as m3101 from './20261231090000_create_shop_keys';
 import * as m270101 from './20270102000100_create_shop_servers';
+import * as m270301 from './20270103090000_add_wear_limit_to_shops';
 
 /**
  * The public-schema migrations, in order. Listed by hand (not read from the folder) so the
@@ -47,5 +48,6 @@ export const publicMigrations: Record<string, Knex.Migration> = {
 	'20261222090000_create_shop_drop_function': m2201,
 	'20261230090000_create_pending_signups': m3001,
 	'20261231090000_create_shop_keys': m3101,
-	'20270102000100_create_shop_servers': m270101
+	'20270102000100_create_shop_servers': m270101,
+	'20270103090000_add_wear_limit_to_shops': m270301
 };

@@ -163,6 +163,7 @@ export {
 } from './parse-load-program';
 export {
 	compareReadback,
+	componentRowLabel,
 	registerLabel,
 	READBACK_CAUSES,
 	READBACK_CAUSE_TITLE,
@@ -171,6 +172,8 @@ export {
 	type ReadbackInput,
 	type ReadbackRow,
 	type ReadbackValues,
+	type ReadbackComponent,
+	type ExpectedComponents,
 	type OneSided
 } from './readback';
 export {
@@ -190,6 +193,8 @@ export {
 	wearBeyondLimit,
 	effectiveValue,
 	DEFAULT_WEAR_LIMIT,
+	WEAR_LIMIT_RANGE,
+	wearLimitIn,
 	MEASURED_FEATURES,
 	type WearProposal,
 	type WearRegister,

@@ -42,8 +42,12 @@ function words(code: string): Word[] | null {
 	return end === compact.length ? out : null;
 }
 
-/** Which register a value of a control file belongs to. `wear` holds length wear by H number. */
-export type ReadbackSection = 'work' | 'tools' | 'wear';
+/**
+ * Which register a value of a control file belongs to. `wear` holds length wear by H number;
+ * `x`/`y` a work offset's X/Y, `radius`/`radius-wear` the H/D number's radius (or diameter)
+ * geometry and wear (issue 20).
+ */
+export type ReadbackSection = 'work' | 'tools' | 'wear' | 'x' | 'y' | 'radius' | 'radius-wear';
 
 /** A value the file wrote without a decimal point, and how the other convention would read it. */
 export interface NoPointFlag {
@@ -78,6 +82,12 @@ export interface ControlFile {
 	tools: Record<string, number>;
 	/** Length wear by H number (ISO-style G10 L11), where the file has it. */
 	wear: Record<string, number>;
+	/** X/Y of work offsets (the X and Y words of G10 L2 / L20), where the file has them. */
+	xy: Record<string, { x?: number; y?: number }>;
+	/** Radius (or diameter) geometry by H/D number: ISO-style G10 L12, RS274NGC-style L1 R. */
+	radius: Record<string, number>;
+	/** Radius (or diameter) wear by H/D number: ISO-style G10 L13. */
+	radiusWear: Record<string, number>;
 	noPoint: NoPointFlag[];
 	other: OtherRegister[];
 	/** File-level remarks in plain words (assumed units, axes left out…). */
@@ -218,11 +228,12 @@ function readG10(text: string, mode: Mode, m: Machine | undefined): ReadState {
 			const zWord = ws.find((w) => w.letter === 'Z');
 			const rWord = ws.find((w) => w.letter === 'R');
 			if (lenient) {
-				const others = ws.filter((w) => !'GLPZR'.includes(w.letter));
+				const others = ws.filter((w) => !'GLPZRXY'.includes(w.letter));
 				if (others.length > 0)
 					s.notes.add(
-						'Only Z and tool lengths are compared: X, Y and other axes in the file are left out.'
+						'Only Z, X, Y, tool lengths, radii and wear are compared: other axes in the file are left out.'
 					);
+				if (readControlComponents(n, raw, ws, l, p, s, m)) return;
 			}
 			if (!lenient) {
 				const done = readComponents(n, raw, ws, l, p, s, m, fail, setStyle);
@@ -244,7 +255,7 @@ function readG10(text: string, mode: Mode, m: Machine | undefined): ReadState {
 					'has no decimal point; some controls read such a number as increments, so load programs always write one'
 				);
 			const value = readValue(valueWord.text, s.style ?? 'rs274ngc', s.units, m);
-			const put = (section: ReadbackSection, register: string, label: string) => {
+			const put = (section: 'work' | 'tools' | 'wear', register: string, label: string) => {
 				const target = s[section];
 				if (register in target) {
 					if (!lenient) return fail(n, raw, `sets ${label} a second time`);
@@ -300,10 +311,6 @@ function readG10(text: string, mode: Mode, m: Machine | undefined): ReadState {
 				return setTool('tools');
 			}
 			if (lenient && l === '11') return setTool('wear');
-			if (lenient && (l === '12' || l === '13')) {
-				s.notes.add('Diameter registers (G10 L12 and L13) are not compared.');
-				return;
-			}
 			if (l === '20') {
 				if (!setStyle(n, 'iso', raw)) return;
 				const has = lenient
@@ -431,6 +438,87 @@ function readComponents(
 		}
 		target[h] = read(rw);
 		return true;
+	}
+	return false;
+}
+
+/**
+ * The component words of a control file line (issue 20), read in control-file mode: X/Y on a
+ * work offset line (G10 L2 P1–P6, L20 Pn within the machine's count; NIST RS274NGC v3 §3.5.5
+ * for L2 — only the axes given are set), R beside Z on an RS274NGC-style G10 L1 (the radius;
+ * LinuxCNC manual, from memory), ISO-style G10 L12 (radius or diameter geometry) and L13 (its
+ * wear) with R (ISO-style mill manual §1.2.10, SOURCES.md 3; common practice). A register set
+ * twice: the last value counts, said in a note. Returns true when the line is fully read here.
+ */
+function readControlComponents(
+	n: number,
+	raw: string,
+	ws: Word[],
+	l: string | undefined,
+	p: number,
+	s: ReadState,
+	m: Machine | undefined
+): boolean {
+	const units = s.units!;
+	const put = (
+		section: 'x' | 'y' | 'radius' | 'radius-wear',
+		register: string,
+		label: string,
+		w: Word
+	) => {
+		const value = readValue(w.text, s.style ?? 'rs274ngc', units, m);
+		const target =
+			section === 'radius' ? s.radius : section === 'radius-wear' ? s.radiusWear : undefined;
+		const had = target ? register in target : s.xy[register]?.[section as 'x' | 'y'] !== undefined;
+		if (had) {
+			s.notes.add(`${label} is set more than once in the file: the last value counts.`);
+			s.raw = s.raw.filter((r) => !(r.section === section && r.register === register));
+		}
+		if (target) target[register] = value;
+		else s.xy[register] = { ...s.xy[register], [section]: value };
+		s.raw.push({ section, register, text: w.text, line: n });
+	};
+	if (l === '12' || l === '13') {
+		const rw = ws.find((w) => w.letter === 'R');
+		const h = canonicalH(String(p));
+		if (!rw) {
+			s.issues.push({ field: `line ${n}`, value: raw, message: `G10 L${l} has no R value` });
+			return true;
+		}
+		if (h === null) {
+			s.issues.push({
+				field: `line ${n}`,
+				value: p,
+				message: 'is not a valid H/D number (1–9999)'
+			});
+			return true;
+		}
+		put(
+			l === '12' ? 'radius' : 'radius-wear',
+			h,
+			`H${h} ${l === '12' ? 'radius' : 'radius wear'}`,
+			rw
+		);
+		return true;
+	}
+	if (l === '1') {
+		const rw = ws.find((w) => w.letter === 'R');
+		const h = canonicalH(String(p));
+		if (rw && h !== null) put('radius', h, `H${h} radius`, rw);
+		return false; // Z (the length) is read by the Z reader
+	}
+	if (l === '2' || l === '20') {
+		const register =
+			l === '2' && p >= 1 && p <= 6
+				? STANDARD_WORK_REGISTERS[p - 1]
+				: l === '20' && p >= 1 && p <= (m?.extendedWorkOffsets ?? MAX_EXTENDED_REGISTER)
+					? EXTENDED_LABEL(p)
+					: null;
+		if (register === null) return false; // the Z reader lists it as a register not kept
+		for (const axis of ['X', 'Y'] as const) {
+			const w = ws.find((x) => x.letter === axis);
+			if (w) put(axis === 'X' ? 'x' : 'y', register, `${register} ${axis}`, w);
+		}
 	}
 	return false;
 }
@@ -576,7 +664,12 @@ export function parseControlFile(text: string, machine: Machine): ControlFile {
 		Object.fromEntries(Object.entries(r).map(([k, v]) => [k, toMachine(v)]));
 	const style = s.style ?? 'rs274ngc';
 	const noPoint: NoPointFlag[] = s.raw
-		.filter((r) => !r.text.includes('.'))
+		// X0 Y0 (a control's usual unset X/Y) reads as zero either way: not worth a flag.
+		.filter(
+			(r) =>
+				!r.text.includes('.') &&
+				!(['x', 'y', 'radius', 'radius-wear'].includes(r.section) && Number(r.text) === 0)
+		)
 		.map((r) => {
 			const whole = Number(r.text);
 			const increments = fromIncrements(whole, incrementFor(fileUnits, m));
@@ -590,7 +683,12 @@ export function parseControlFile(text: string, machine: Machine): ControlFile {
 				readAs: style === 'iso' ? 'increments' : 'whole units'
 			};
 		});
-	const found = Object.keys(s.work).length + Object.keys(s.tools).length;
+	const found =
+		Object.keys(s.work).length +
+		Object.keys(s.tools).length +
+		Object.keys(s.xy).length +
+		Object.keys(s.radius).length +
+		Object.keys(s.radiusWear).length;
 	const wearCount = Object.keys(s.wear).length;
 	if (found + wearCount + s.other.length === 0) {
 		throw new OffsetInputError(
@@ -610,6 +708,17 @@ export function parseControlFile(text: string, machine: Machine): ControlFile {
 		work: convert(s.work),
 		tools: convert(s.tools),
 		wear: convert(s.wear),
+		xy: Object.fromEntries(
+			Object.entries(s.xy).map(([k, v]) => [
+				k,
+				{
+					...(v.x === undefined ? {} : { x: toMachine(v.x) }),
+					...(v.y === undefined ? {} : { y: toMachine(v.y) })
+				}
+			])
+		),
+		radius: convert(s.radius),
+		radiusWear: convert(s.radiusWear),
 		noPoint,
 		other: s.other.map((o) => ({ ...o, value: toMachine(o.value) })),
 		notes,

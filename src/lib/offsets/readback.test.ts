@@ -64,9 +64,17 @@ describe('parseControlFile', () => {
 		expect(read.tools).toEqual({ '3': 101.6 });
 		expect(read.wear).toEqual({ '3': -0.02 });
 		expect(read.skipped).toEqual([]);
-		expect(read.noPoint).toEqual([]); // the X0 Y0 words are not compared, so not flagged
-		expect(read.notes.join(' ')).toMatch(/X, Y and other axes/);
-		expect(read.notes.join(' ')).toMatch(/Diameter registers/);
+		// X/Y of G10 L2/L20 (NIST RS274NGC v3 §3.5.5 for L2; L20 from secondary sources) and the
+		// L12 radius/diameter geometry (ISO-style mill manual §1.2.10, SOURCES.md 3) are read.
+		expect(read.xy).toEqual({
+			G54: { x: -400, y: -200 },
+			G55: { x: 0, y: 0 },
+			'G54.1 P3': { x: 0, y: 0 }
+		});
+		expect(read.radius).toEqual({ '3': 5 });
+		expect(read.radiusWear).toEqual({});
+		expect(read.noPoint).toEqual([]); // X0 Y0 reads as zero either way: not flagged
+		expect(read.notes).toEqual([]);
 	});
 
 	test('ISO-style: a value without a decimal point is a count of least increments, and flagged (inch and mm)', () => {

@@ -67,6 +67,17 @@ export interface ReadbackRow {
 	noPoint?: NoPointFlag;
 	/** ISO-style length wear of this H number, when the file or the operator gave it. */
 	wear?: number;
+	/** A component beside Z (issue 20); absent for the Z / length value itself. */
+	component?: ReadbackComponent;
+}
+
+/** The components beside Z a read-back compares (issue 20). */
+export type ReadbackComponent = 'x' | 'y' | 'radius' | 'length-wear' | 'radius-wear';
+
+/** What Datumkeep holds beside Z, in the machine's units (`current_offset_components`). */
+export interface ExpectedComponents {
+	work?: Record<string, { x?: number; y?: number }>;
+	tools?: Record<string, { radius?: number; lengthWear?: number; radiusWear?: number }>;
 }
 
 /** A register only one side has. */
@@ -75,6 +86,7 @@ export interface OneSided {
 	register: string;
 	label: string;
 	value: number;
+	component?: ReadbackComponent;
 }
 
 export interface ReadbackComparison {
@@ -89,8 +101,13 @@ export interface ReadbackComparison {
 	emptyAtControl: number;
 	/** Registers the file sets that Datumkeep has no place for (G59.1, P0…). */
 	other: OtherRegister[];
-	/** Non-zero length wear by H number: the control adds it to the length it uses. */
+	/**
+	 * Non-zero length wear by H number that Datumkeep keeps no wear for: the control adds it to
+	 * the length it uses. (Wear Datumkeep keeps is compared as a row.)
+	 */
 	wearNotZero: { register: string; label: string; value: number }[];
+	/** Component families Datumkeep keeps but the read-back holds none of (not compared). */
+	componentsNotRead: ReadbackComponent[];
 	equal: number;
 	different: number;
 }
@@ -100,6 +117,10 @@ export interface ReadbackValues {
 	work: Record<string, number>;
 	tools: Record<string, number>;
 	wear?: Record<string, number>;
+	/** Beside Z (issue 20): a work offset's X/Y; radius geometry and wear by H/D number. */
+	xy?: Record<string, { x?: number; y?: number }>;
+	radius?: Record<string, number>;
+	radiusWear?: Record<string, number>;
 	noPoint?: NoPointFlag[];
 	other?: OtherRegister[];
 }
@@ -109,10 +130,27 @@ export interface ReadbackInput {
 	/** Datumkeep's current table, in the machine's units. */
 	expected: OffsetTable;
 	actual: ReadbackValues;
-	/** Older values of each register (not the current one), for the stale test. */
-	history?: { work?: Record<string, number[]>; tools?: Record<string, number[]> };
+	/** Datumkeep's X/Y, radius and wear values, compared like Z when the read-back has them. */
+	expectedComponents?: ExpectedComponents;
+	/**
+	 * Older values of each register (not the current one), for the stale test; `components` by
+	 * "<register>|<component>" ("G54|x", "3|radius-wear").
+	 */
+	history?: {
+		work?: Record<string, number[]>;
+		tools?: Record<string, number[]>;
+		components?: Record<string, number[]>;
+	};
 	policy?: PolicyInput;
 }
+
+const COMPONENT_WORDS: Record<ReadbackComponent, string> = {
+	x: 'X',
+	y: 'Y',
+	radius: 'radius',
+	'length-wear': 'length wear',
+	'radius-wear': 'radius wear'
+};
 
 /**
  * How a register is shown: "H3" for tools, the work register as the machine's programs address
@@ -125,6 +163,16 @@ export function registerLabel(
 ): string {
 	if (section === 'work') return registerForMachine(register, form);
 	return section === 'wear' ? `H${register} wear` : `H${register}`;
+}
+
+/** "G54 X", "H3 radius wear": a component's label. */
+export function componentRowLabel(
+	section: 'work' | 'tools',
+	register: string,
+	component: ReadbackComponent,
+	form: ExtendedAddressForm = 'G54.1 P'
+): string {
+	return `${registerLabel(section, register, form)} ${COMPONENT_WORDS[component]}`;
 }
 
 /** The registers either side of a work register in control order (G54 → G55; G54.1 P3 → P2, P4). */
@@ -205,6 +253,63 @@ export function compareReadback(input: ReadbackInput): ReadbackComparison {
 	const onlyAtControl: OneSided[] = [];
 	const onlyInDatumkeep: OneSided[] = [];
 	let emptyAtControl = 0;
+
+	/** One register's value on both sides: equal, or different with its likely causes. */
+	const compareOne = (c: {
+		section: 'work' | 'tools';
+		register: string;
+		label: string;
+		e: number;
+		a: number;
+		flag: NoPointFlag | undefined;
+		older: number[];
+		neighbours: { label: string; value: number }[];
+		component?: ReadbackComponent;
+	}): ReadbackRow => {
+		const { e, a, flag, label } = c;
+		const same = inc(a) === inc(e);
+		const row: ReadbackRow = {
+			section: c.section,
+			register: c.register,
+			label,
+			expected: fromIncrements(inc(e), res),
+			actual: fromIncrements(inc(a), res),
+			status: same ? 'equal' : 'different',
+			difference: fromIncrements(inc(a) - inc(e), res),
+			causes: []
+		};
+		if (c.component) row.component = c.component;
+		if (flag) row.noPoint = flag;
+		if (same) return row;
+		const causes = row.causes;
+		if (flag && inc(flag.otherReading) === inc(e))
+			causes.push({
+				kind: 'no-decimal-point',
+				text: `The control holds ${fmt(a)} because "${flag.text}" was written without a decimal point and this control reads it as ${flag.readAs}; written as ${fmt(e)} with its point it would match.`
+			});
+		const olderValues = c.older.filter((v) => inc(v) !== inc(e));
+		if (olderValues.some((v) => inc(v) === inc(a)))
+			causes.push({
+				kind: 'stale',
+				text: `The control still holds an older value of ${label} (${fmt(a)}): the newest value ${fmt(e)} was not entered or loaded.`
+			});
+		for (const other of c.neighbours) {
+			if (inc(other.value) === inc(a) && inc(other.value) !== inc(e))
+				causes.push({
+					kind: 'off-by-one',
+					text: `${label} holds ${other.label}’s value (${fmt(a)}): it was probably typed one register off.`
+				});
+		}
+		const slip = slipKind(a, e, m.units, res, policy);
+		if (isSlip(slip)) causes.push({ kind: slip, text: SLIP_WORDS[slip](label, fmt(a), fmt(e)) });
+		if (causes.length === 0)
+			causes.push({
+				kind: 'unexplained',
+				text: `${label} differs by ${fmt(a - e)} and no typing slip explains it: read the value on the control again, then enter ${fmt(e)} or re-measure.`
+			});
+		return row;
+	};
+
 	for (const section of ['work', 'tools'] as const) {
 		const exp = expected[section];
 		const act = actual[section];
@@ -214,51 +319,23 @@ export function compareReadback(input: ReadbackInput): ReadbackComparison {
 				onlyInDatumkeep.push({ section, register, label, value: e });
 				continue;
 			}
-			const a = act[register];
-			const same = inc(a) === inc(e);
-			const flag = noPoint.get(`${section}|${register}`);
-			const row: ReadbackRow = {
+			const neighbours = (section === 'work' ? workNeighbours(register) : toolNeighbours(register))
+				.filter((other) => other in exp)
+				.map((other) => ({
+					label: registerLabel(section, other, m.extendedAddress),
+					value: exp[other]
+				}));
+			const row = compareOne({
 				section,
 				register,
 				label,
-				expected: fromIncrements(inc(e), res),
-				actual: fromIncrements(inc(a), res),
-				status: same ? 'equal' : 'different',
-				difference: fromIncrements(inc(a) - inc(e), res),
-				causes: []
-			};
-			if (flag) row.noPoint = flag;
+				e,
+				a: act[register],
+				flag: noPoint.get(`${section}|${register}`),
+				older: older[section][register] ?? [],
+				neighbours
+			});
 			if (section === 'tools' && register in wear) row.wear = wear[register];
-			if (!same) {
-				const causes = row.causes;
-				if (flag && inc(flag.otherReading) === inc(e))
-					causes.push({
-						kind: 'no-decimal-point',
-						text: `The control holds ${fmt(a)} because "${flag.text}" was written without a decimal point and this control reads it as ${flag.readAs}; written as ${fmt(e)} with its point it would match.`
-					});
-				const olderValues = (older[section][register] ?? []).filter((v) => inc(v) !== inc(e));
-				if (olderValues.some((v) => inc(v) === inc(a)))
-					causes.push({
-						kind: 'stale',
-						text: `The control still holds an older value of ${label} (${fmt(a)}): the newest value ${fmt(e)} was not entered or loaded.`
-					});
-				const neighbours = section === 'work' ? workNeighbours(register) : toolNeighbours(register);
-				for (const other of neighbours) {
-					if (other in exp && inc(exp[other]) === inc(a) && inc(exp[other]) !== inc(e))
-						causes.push({
-							kind: 'off-by-one',
-							text: `${label} holds ${registerLabel(section, other, m.extendedAddress)}’s value (${fmt(a)}): it was probably typed one register off.`
-						});
-				}
-				const slip = slipKind(a, e, m.units, res, policy);
-				if (isSlip(slip))
-					causes.push({ kind: slip, text: SLIP_WORDS[slip](label, fmt(a), fmt(e)) });
-				if (causes.length === 0)
-					causes.push({
-						kind: 'unexplained',
-						text: `${label} differs by ${fmt(a - e)} and no typing slip explains it: read the value on the control again, then enter ${fmt(e)} or re-measure.`
-					});
-			}
 			rows.push(row);
 		}
 		for (const [register, a] of Object.entries(act)) {
@@ -273,8 +350,95 @@ export function compareReadback(input: ReadbackInput): ReadbackComparison {
 				});
 		}
 	}
+
+	// Beside Z (issue 20): X/Y, radius geometry and wear, each family compared when the read-back
+	// holds any of it (a file without L13 lines says nothing about radius wear), by the same
+	// rules and causes as Z. Values the control holds that Datumkeep keeps none of are not
+	// listed: every work offset at a control has an X and Y.
+	const componentsNotRead: ReadbackComponent[] = [];
+	const ec = input.expectedComponents ?? {};
+	const families: {
+		component: ReadbackComponent;
+		section: 'work' | 'tools';
+		expected: Record<string, number>;
+		actual: Record<string, number>;
+	}[] = [
+		{
+			component: 'x',
+			section: 'work',
+			expected: pickField(ec.work, 'x'),
+			actual: pickField(input.actual.xy, 'x')
+		},
+		{
+			component: 'y',
+			section: 'work',
+			expected: pickField(ec.work, 'y'),
+			actual: pickField(input.actual.xy, 'y')
+		},
+		{
+			component: 'radius',
+			section: 'tools',
+			expected: pickField(ec.tools, 'radius'),
+			actual: input.actual.radius ?? {}
+		},
+		{
+			component: 'length-wear',
+			section: 'tools',
+			expected: pickField(ec.tools, 'lengthWear'),
+			actual: wear
+		},
+		{
+			component: 'radius-wear',
+			section: 'tools',
+			expected: pickField(ec.tools, 'radiusWear'),
+			actual: input.actual.radiusWear ?? {}
+		}
+	];
+	const comparedWear = new Set<string>();
+	for (const f of families) {
+		const exp = canonicalKeys(f.expected, f.section, `expectedComponents.${f.component}`);
+		const act = canonicalKeys(f.actual, f.section, `actual.${f.component}`);
+		if (Object.keys(exp).length === 0) continue;
+		if (Object.keys(act).length === 0) {
+			componentsNotRead.push(f.component);
+			continue;
+		}
+		const lbl = (register: string) =>
+			componentRowLabel(f.section, register, f.component, m.extendedAddress);
+		for (const [register, e] of Object.entries(exp)) {
+			if (!(register in act)) {
+				onlyInDatumkeep.push({
+					section: f.section,
+					register,
+					label: lbl(register),
+					value: e,
+					component: f.component
+				});
+				continue;
+			}
+			if (f.component === 'length-wear') comparedWear.add(register);
+			const neighbours = (
+				f.section === 'work' ? workNeighbours(register) : toolNeighbours(register)
+			)
+				.filter((other) => other in exp)
+				.map((other) => ({ label: lbl(other), value: exp[other] }));
+			rows.push(
+				compareOne({
+					section: f.section,
+					register,
+					label: lbl(register),
+					e,
+					a: act[register],
+					flag: noPoint.get(`${f.component === 'length-wear' ? 'wear' : f.component}|${register}`),
+					older: input.history?.components?.[`${register}|${f.component}`] ?? [],
+					neighbours,
+					component: f.component
+				})
+			);
+		}
+	}
 	const wearNotZero = Object.entries(wear)
-		.filter(([, v]) => inc(v) !== 0)
+		.filter(([h, v]) => inc(v) !== 0 && !comparedWear.has(h))
 		.map(([register, value]) => ({ register, label: registerLabel('wear', register), value }));
 	return {
 		units: m.units,
@@ -285,9 +449,21 @@ export function compareReadback(input: ReadbackInput): ReadbackComparison {
 		emptyAtControl,
 		other: input.actual.other ?? [],
 		wearNotZero,
+		componentsNotRead,
 		equal: rows.filter((r) => r.status === 'equal').length,
 		different: rows.filter((r) => r.status === 'different').length
 	};
+}
+
+/** One field of each register's record, as a plain register → value record. */
+function pickField<K extends string>(
+	record: Record<string, Partial<Record<K, number>>> | undefined,
+	field: K
+): Record<string, number> {
+	const out: Record<string, number> = {};
+	for (const [k, v] of Object.entries(record ?? {}))
+		if (v?.[field] !== undefined) out[k] = v[field]!;
+	return out;
 }
 
 type Slip = 'sign-flip' | 'transposed-digits' | 'unit-slip' | 'decimal-slip';

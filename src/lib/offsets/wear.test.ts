@@ -1,5 +1,6 @@
 import { describe, expect, test } from 'vitest';
-import { effectiveValue, proposeWear, wearBeyondLimit } from './wear';
+import { checkWearValue } from './component-checks';
+import { effectiveValue, proposeWear, wearBeyondLimit, wearLimitIn } from './wear';
 
 // Sizes are invented. Sign rules: G43 adds the length offset (NIST RS274NGC v3 §3.5.11), the
 // control uses geometry + wear (ISO-style mill manual §1.2.10, SOURCES.md 3); cutter
@@ -105,6 +106,57 @@ describe('the wear limit', () => {
 		expect(wearBeyondLimit(-0.0101, 'inch')).toBe(true);
 		expect(wearBeyondLimit(0.25, 'mm')).toBe(false);
 		expect(wearBeyondLimit(0.251, 'mm')).toBe(true);
+	});
+
+	test("a shop's own limit, kept in mm, judges wear in either unit", () => {
+		// The limit is the shop's choice (shop policy); 1 in = 25.4 mm exactly (NIST SP 811).
+		expect(wearLimitIn('inch', null)).toBe(0.01);
+		expect(wearLimitIn('mm', undefined)).toBe(0.25);
+		expect(wearLimitIn('inch', 0.127)).toBe(0.005);
+		expect(wearLimitIn('mm', 0.127)).toBe(0.127);
+		// 0.25 mm on an inch machine: 0.0098425… in, to the engine's micro-unit.
+		expect(wearLimitIn('inch', 0.25)).toBe(0.009843);
+		expect(() => wearLimitIn('inch', 0)).toThrow(/greater than zero/);
+		// A tighter shop limit (0.005 in) stops a wear the default lets stand.
+		const limit = wearLimitIn('inch', 0.127);
+		expect(wearBeyondLimit(-0.008, 'inch')).toBe(false);
+		expect(wearBeyondLimit(-0.008, 'inch', limit)).toBe(true);
+		expect(wearBeyondLimit(0.005, 'inch', limit)).toBe(false);
+		const stop = checkWearValue({
+			units: 'inch',
+			h: '3',
+			component: 'length-wear',
+			value: -0.0051,
+			limit
+		});
+		expect(stop.map((f) => [f.kind, f.severity])).toEqual([['wear-limit', 'stop']]);
+		expect(stop[0].message).toContain('limit of 0.0050 in');
+		const p = proposeWear({
+			units: 'inch',
+			feature: 'depth',
+			nominal: 0.5,
+			measured: 0.496,
+			wearLimit: limit
+		});
+		expect(p.newWear).toBe(-0.004);
+		expect(p.beyondLimit).toBe(false);
+		const q = proposeWear({
+			...{ units: 'inch', feature: 'depth', nominal: 0.5 },
+			measured: 0.494,
+			wearLimit: limit
+		} as const);
+		expect(q.beyondLimit).toBe(true);
+		expect(q.cautions.join(' ')).toContain("the shop's limit of 0.0050 in");
+		// A looser shop limit (1 mm) lets 0.4 mm of radius wear stand on a mm machine.
+		expect(
+			checkWearValue({
+				units: 'mm',
+				h: '7',
+				component: 'radius-wear',
+				value: 0.4,
+				limit: wearLimitIn('mm', 1)
+			})
+		).toEqual([]);
 	});
 
 	test('a size error far beyond wear is refused as a wrong number', () => {

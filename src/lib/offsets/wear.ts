@@ -27,6 +27,7 @@ import {
 	resolutionFor,
 	roundToResolution,
 	toMicro,
+	toUnits,
 	UNIT_LABEL,
 	type Units
 } from './units';
@@ -55,6 +56,29 @@ export type CutterRegisterMode = 'radius' | 'diameter';
  * by nature, more means the tool or its geometry changed.
  */
 export const DEFAULT_WEAR_LIMIT: Readonly<Record<Units, number>> = { inch: 0.01, mm: 0.25 };
+
+/**
+ * The limits a shop may set, per unit (our choice, shop policy): from one least increment
+ * (0.0001 in / 0.001 mm, M. Lynch, SOURCES.md 5) to 0.1 in / 2.54 mm — wear beyond that is a
+ * different tool, not wear.
+ */
+export const WEAR_LIMIT_RANGE: Readonly<Record<Units, readonly [number, number]>> = {
+	inch: [0.0001, 0.1],
+	mm: [0.001, 2.54]
+};
+
+/**
+ * The shop's wear limit in `units`. Shops keep it in one unit, millimetres (`limitMm`); null or
+ * undefined means our default for those units (0.0100 in / 0.25 mm). Converted exactly (1 in =
+ * 25.4 mm, NIST SP 811) to the micro-unit: a limit is compared, never written to a control.
+ */
+export function wearLimitIn(units: Units, limitMm?: number | null): number {
+	if (limitMm === null || limitMm === undefined) return DEFAULT_WEAR_LIMIT[units];
+	const mm = finite('wearLimitMm', limitMm);
+	if (mm <= 0) throw OffsetInputError.of('wearLimitMm', mm, 'must be greater than zero');
+	// To the micro-unit the engine sums in (./units.ts): 0.25 mm → 0.009843 in.
+	return units === 'mm' ? mm : toUnits(mm, 'mm', 'inch', 0.000001);
+}
 
 /** What a measured part asks of one wear register. */
 export interface WearProposal {
@@ -128,7 +152,7 @@ export function proposeWear(input: {
 		throw OffsetInputError.of(
 			'measured',
 			measured,
-			`differs from the nominal ${nominal} ${u} by ${show(sizeError)} ${u}, far more than wear (limit ${limit} ${u}); check the number, the units and the feature, or re-measure the tool`
+			`differs from the nominal ${nominal} ${u} by ${show(sizeError)} ${u}, far more than wear (limit ${show(limit)} ${u}); check the number, the units and the feature, or re-measure the tool`
 		);
 	}
 	const words = FEATURE_WORDS[feature];
@@ -172,7 +196,7 @@ export function proposeWear(input: {
 	const beyondLimit = Math.abs(newWear) > limit;
 	if (beyondLimit) {
 		cautions.push(
-			`The new wear ${signed(newWear)} ${u} is beyond the shop's limit of ${limit} ${u}: re-measure the tool and move the correction into the geometry instead.`
+			`The new wear ${signed(newWear)} ${u} is beyond the shop's limit of ${show(limit)} ${u}: re-measure the tool and move the correction into the geometry instead.`
 		);
 	}
 	return { register, sizeError, change, newWear, beyondLimit, explanation, cautions };

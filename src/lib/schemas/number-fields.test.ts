@@ -18,6 +18,7 @@ import * as machine from './machine';
 import * as members from './members';
 import { isStrictNumberField } from './number';
 import * as readings from './readings';
+import * as settings from './settings';
 import * as setups from './setups';
 import * as shop from './shop';
 import * as tool from './tool';
@@ -32,6 +33,7 @@ const MODULES = {
 	machine,
 	members,
 	readings,
+	settings,
 	setups,
 	shop,
 	tool,

@@ -1,16 +1,20 @@
 import { z } from 'zod';
+import { WEAR_LIMIT_RANGE } from '$lib/offsets/wear';
 import { isTimeZone } from '$lib/time';
+import { numberField, optionalNumberField } from './number';
 
 /**
  * Shop settings (issue 18). The check limits are in the shop's default units; empty means "our
- * default" (src/lib/offsets/policy.ts), so a shop only records what it chose itself.
+ * default" (src/lib/offsets/policy.ts), so a shop only records what it chose itself. Every
+ * number reads through the one strict reader (./number.ts): "0,01" or "0.01in" is refused with
+ * the field and why, never read as something else.
  */
 const optionalNumber = (field: string, min: number, max: number, unit: string) =>
-	z
-		.number(`${field} must be a number (${unit}), or empty for the default.`)
-		.min(min, `${field} must be from ${min} to ${max} ${unit}, or empty for the default.`)
-		.max(max, `${field} must be from ${min} to ${max} ${unit}, or empty for the default.`)
-		.nullable();
+	optionalNumberField(field, {
+		min,
+		max,
+		rangeMessage: `${field} must be from ${min} to ${max} ${unit}, or empty for the default.`
+	});
 
 /** Jump limits that make sense per unit: one tenth of the least increment up to a large slip. */
 export const JUMP_RANGE = { inch: [0.0001, 1], mm: [0.001, 25] } as const;
@@ -27,24 +31,44 @@ export const shopSettingsSchema = z
 			.trim()
 			.refine(isTimeZone, 'Choose a time zone from the list (e.g. America/Chicago).'),
 		defaultUnits: z.enum(['inch', 'mm'], 'Choose inch or mm.'),
-		checkHour: z.coerce
-			.number('Pick an hour from 00 to 23.')
-			.int('Pick a whole hour from 00 to 23.')
-			.min(0, 'Pick an hour from 00 to 23.')
-			.max(23, 'Pick an hour from 00 to 23.'),
+		checkHour: numberField('Check hour', {
+			whole: true,
+			min: 0,
+			max: 23,
+			rangeMessage: 'Pick an hour from 00 to 23.'
+		}),
 		jumpTolerance: optionalNumber('Jump limit', 0.0001, 25, 'in or mm'),
 		toolMaxAgeDays: optionalNumber('Tool length age limit', 1, 365, 'days'),
-		workMaxAgeDays: optionalNumber('Work offset age limit', 1, 365, 'days')
+		workMaxAgeDays: optionalNumber('Work offset age limit', 1, 365, 'days'),
+		/**
+		 * The wear limit (issue 20), typed in `wearLimitUnits`: the units the page showed it in
+		 * (the shop's saved units), so changing the shop's units in the same save never re-reads
+		 * the number in the other unit. Kept in mm on the server.
+		 */
+		wearLimit: optionalNumberField('Wear limit', { min: 0, minExclusive: true }),
+		wearLimitUnits: z.enum(['inch', 'mm'], 'The wear limit’s units must be inch or mm.')
 	})
 	.superRefine((v, ctx) => {
-		if (v.jumpTolerance === null) return;
-		const [lo, hi] = JUMP_RANGE[v.defaultUnits];
-		if (v.jumpTolerance < lo || v.jumpTolerance > hi) {
-			ctx.addIssue({
-				code: 'custom',
-				path: ['jumpTolerance'],
-				message: `Jump limit ${v.jumpTolerance} is out of range: in ${v.defaultUnits} use ${lo} to ${hi}, or leave it empty for the default.`
-			});
+		if (v.jumpTolerance !== undefined) {
+			const [lo, hi] = JUMP_RANGE[v.defaultUnits];
+			if (v.jumpTolerance < lo || v.jumpTolerance > hi) {
+				ctx.addIssue({
+					code: 'custom',
+					path: ['jumpTolerance'],
+					message: `Jump limit ${v.jumpTolerance} is out of range: in ${v.defaultUnits} use ${lo} to ${hi}, or leave it empty for the default.`
+				});
+			}
+		}
+		if (v.wearLimit !== undefined) {
+			const [lo, hi] = WEAR_LIMIT_RANGE[v.wearLimitUnits];
+			const u = v.wearLimitUnits === 'inch' ? 'in' : 'mm';
+			if (v.wearLimit < lo || v.wearLimit > hi) {
+				ctx.addIssue({
+					code: 'custom',
+					path: ['wearLimit'],
+					message: `Wear limit ${v.wearLimit} ${u} is out of range: use ${lo} to ${hi} ${u} (one least increment up to a tenth of an inch; more is a different tool, not wear), or leave it empty for the default.`
+				});
+			}
 		}
 	});
 

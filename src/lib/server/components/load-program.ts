@@ -48,7 +48,7 @@ export async function programComponents(
 	const policy = resolvePolicy(policyInput, machine.units);
 	const values: ProgramComponents['values'] = { work: {}, tools: {}, cutterRegister };
 	const flagged: FlaggedComponent[] = [];
-	const limit = wearLimitFor(machine);
+	const limit = await wearLimitFor(trx, machine);
 	for (const r of rows) {
 		const value = Number(r.value);
 		const section = r.register_kind === 'work' ? 'work' : 'tools';

@@ -8,6 +8,7 @@
 import type { Knex } from 'knex';
 import { findingTitle, formatWithUnits, type CutterRegisterMode } from '$lib/offsets';
 import { audit } from '../audit';
+import { recheckMachine, resolveOverride } from '../fleet/recheck';
 import type { MachineRecord } from '../offsets/machine-state';
 import { ReadingInputError } from '../readings/input';
 import { requireOverride, type OverrideChoice } from '../readings/override';
@@ -209,14 +210,24 @@ export async function writeComponentVersion(
 			...(v.overridden ? { overridden: v.overridden.map((f) => f.kind) } : {})
 		}
 	});
-	if (v.overridden) {
+	const subjectKey = `${v.kind === 'tool' ? 'tool' : 'fixture'}:${label}`;
+	if (!v.overridden) {
+		// Findings follow the data, as for Z (readings/record.ts): a clean value of this
+		// component replaces the one saved over a Stop, so its override finding is resolved.
+		await resolveOverride(trx, machine.id, subjectKey, {
+			what: `the new value of ${label} (version #${id})`,
+			by: actor.id
+		});
+	} else {
 		const titles = [...new Set(v.overridden.map((f) => findingTitle(f.kind)))].join('; ');
 		const now = new Date().toISOString();
-		const key = `m${machine.id}|override|${v.kind === 'tool' ? 'tool' : 'fixture'}:${label}`;
+		const key = `m${machine.id}|override|${subjectKey}`;
 		await trx.raw(
 			`insert into findings as f (key, machine_id, kind, severity, subject_type, subject, message,
-				status, first_seen_at, last_seen_at)
-			values (:key, :machineId, 'override', 'stop', :subjectType, :subject, :message, 'open', :now, :now)
+				status, first_seen_at, last_seen_at, previous_finding_id)
+			values (:key, :machineId, 'override', 'stop', :subjectType, :subject, :message, 'open', :now, :now,
+				(select p.id from findings p where p.key = :key and p.status = 'resolved'
+					order by p.resolved_at desc nulls last, p.id desc limit 1))
 			on conflict (key) where status <> 'resolved' do update set
 				message = excluded.message, last_seen_at = excluded.last_seen_at`,
 			{
@@ -229,6 +240,9 @@ export async function writeComponentVersion(
 			}
 		);
 	}
+	// Findings follow the data: the machine's checks (read-back mismatches of this component
+	// included) run again in this transaction, as after a reading.
+	await recheckMachine(trx, machine, { what: `the new value of ${label}`, by: actor.id });
 	return id;
 }
 

@@ -7,13 +7,14 @@ import type { Knex } from 'knex';
 import {
 	canonicalH,
 	checkWearValue,
-	DEFAULT_WEAR_LIMIT,
 	effectiveValue,
 	isOffsetInputError,
 	proposeWear,
 	type CutterRegisterMode,
+	wearLimitIn,
 	type WearProposal
 } from '$lib/offsets';
+import { shopWearLimitMm } from '../shops/settings';
 import type { PartMeasurementForm, ToolRegisterForm } from '$lib/schemas/components';
 import type { MachineRecord } from '../offsets/machine-state';
 import { parseLength, ReadingInputError, type ReadingIssue } from '../readings/input';
@@ -28,9 +29,13 @@ import {
 	writeComponentVersion
 } from './store';
 
-/** The shop's wear limit in the machine's units (our default 0.0100 in / 0.25 mm, shop policy). */
-export function wearLimitFor(machine: MachineRecord): number {
-	return DEFAULT_WEAR_LIMIT[machine.units];
+/**
+ * The shop's wear limit in the machine's units: the shop setting (kept in mm), else our default
+ * 0.0100 in / 0.25 mm (shop policy). `trx` is a shop transaction: the shop is found by the
+ * schema it is scoped to, as `shopPolicy` does.
+ */
+export async function wearLimitFor(trx: Knex.Transaction, machine: MachineRecord): Promise<number> {
+	return wearLimitIn(machine.units, await shopWearLimitMm(trx));
 }
 
 /** One tool's registers with the effective values the control uses. */
@@ -68,7 +73,7 @@ export async function toolRegisters(
 	const length = new Map(lengths.map((r) => [String(r.register), Number(r.value)]));
 	const comp = (h: string, c: string) =>
 		comps.find((x) => x.kind === 'tool' && x.register === h && x.component === c)?.value ?? null;
-	const limit = wearLimitFor(machine);
+	const limit = await wearLimitFor(trx, machine);
 	const out = tools.map((t) => {
 		const h = String(t.h_number);
 		const lg = length.get(h) ?? null;
@@ -130,6 +135,7 @@ export async function recordToolRegister(
 		nonNegative: form.component === 'radius'
 	});
 	if (issues.length > 0) throw new ReadingInputError(issues);
+	const limit = await wearLimitFor(trx, machine);
 	const findings: BriefFinding[] =
 		form.component === 'radius'
 			? []
@@ -139,7 +145,7 @@ export async function recordToolRegister(
 					h,
 					component: form.component,
 					value: value!,
-					limit: wearLimitFor(machine)
+					limit
 				}).map((f) => ({ kind: f.kind, severity: f.severity, message: f.message }));
 	const overridden = gateComponent(machine, label, value!, findings, {
 		requested: form.override,
@@ -187,6 +193,7 @@ export async function previewPartWear(
 	const component = form.feature === 'depth' ? 'length-wear' : 'radius-wear';
 	const cutter = await cutterRegisterOf(trx, machine.id);
 	const currentWear = (await currentComponent(trx, machine.id, 'tool', h, component)) ?? 0;
+	const limit = await wearLimitFor(trx, machine);
 	let p: WearProposal;
 	try {
 		p = proposeWear({
@@ -196,7 +203,7 @@ export async function previewPartWear(
 			measured: measured!,
 			currentWear,
 			cutterRegister: cutter,
-			wearLimit: wearLimitFor(machine),
+			wearLimit: limit,
 			resolution: machine.resolution
 		});
 	} catch (e) {
@@ -210,7 +217,7 @@ export async function previewPartWear(
 		h,
 		component,
 		value: p.newWear,
-		limit: wearLimitFor(machine)
+		limit
 	}).map((f) => ({ kind: f.kind, severity: f.severity, message: f.message }));
 	return { ...p, h, component, currentWear, label, findings };
 }

@@ -117,6 +117,8 @@ export interface ShopRow {
 	readback_hours: number;
 	default_units: string;
 	check_policy: unknown;
+	/** The shop's wear limit in mm; null = our default (issue 20). */
+	wear_limit_mm: string | null;
 	deletion_requested_at: Date | null;
 	deletion_requested_by: Int8 | null;
 	purge_after: Date | null;

@@ -150,6 +150,8 @@ export interface ReadbackValueRow {
 	value: Numeric | null;
 	expected: Numeric | null;
 	offset_version_id: Int8 | null;
+	/** The component version compared against (issue 20: X/Y, radius, wear rows). */
+	component_version_id: Int8 | null;
 	status: string;
 	causes: unknown;
 	no_point_text: string | null;

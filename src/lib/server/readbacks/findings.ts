@@ -10,12 +10,14 @@
  */
 import type { Knex } from 'knex';
 import {
+	componentRowLabel,
 	formatWithUnits,
 	makeFinding,
 	READBACK_CAUSE_TITLE,
 	READBACK_FINDING_KINDS,
 	type Finding,
 	type ReadbackCause,
+	type ReadbackComponent,
 	type FindingSubject
 } from '$lib/offsets';
 import type { MachineRecord } from '../offsets/machine-state';
@@ -93,7 +95,65 @@ export async function readbackFindings(
 ): Promise<Finding[]> {
 	const registers = await machineVerification(trx, machine.id);
 	const used = await registersInUse(trx, machine.id);
-	return readbackFindingsFrom(machine, registers, used, now, hours);
+	return [
+		...readbackFindingsFrom(machine, registers, used, now, hours),
+		...(await componentMismatches(trx, machine))
+	];
+}
+
+/**
+ * Beside Z (issue 20): a component whose newest compared read-back row was taken against its
+ * current version and found different is a `readback-mismatch` Stop, subject "G54 X" /
+ * "H3 radius wear" (as the component's own findings name it). A new version of the component
+ * (re-measured, or entered to match) ends it, as for Z.
+ */
+async function componentMismatches(
+	trx: Knex.Transaction,
+	machine: MachineRecord
+): Promise<Finding[]> {
+	const { rows } = await trx.raw(
+		`select c.register_kind, c.register, c.component, c.value, v.value as control_value,
+			v.causes, r.taken_at
+		from current_offset_components c
+		join (select distinct on (v.register_kind, v.register)
+				v.register_kind, v.register, v.status, v.component_version_id, v.value, v.causes,
+				v.readback_id
+			from readback_values v
+			where v.machine_id = :machineId and v.status in ('equal', 'different')
+				and v.register_kind in ('x', 'y', 'radius', 'length-wear', 'radius-wear')
+			order by v.register_kind, v.register, v.readback_id desc) v
+			on v.register_kind = c.component and v.register = c.register
+				and v.component_version_id = c.version_id
+		join readbacks r on r.id = v.readback_id
+		where c.machine_id = :machineId and v.status = 'different'
+		order by c.register_kind, c.register, c.component`,
+		{ machineId: machine.id }
+	);
+	const fmt = (v: number) => formatWithUnits(v, machine.units, machine.resolution);
+	return rows.map((r: Record<string, unknown>) => {
+		const kind = r.register_kind === 'work' ? 'work' : 'tool';
+		const component = r.component as ReadbackComponent;
+		const label = componentRowLabel(
+			kind === 'work' ? 'work' : 'tools',
+			String(r.register),
+			component,
+			machine.extendedAddress
+		);
+		const cause = (r.causes as { kind: string }[] | null)?.[0]?.kind;
+		const value = Number(r.value);
+		const control = Number(r.control_value);
+		const subject: FindingSubject =
+			kind === 'work'
+				? { type: 'fixture', register: label }
+				: { type: 'tool', h: label.replace(/^H/, '') };
+		return makeFinding(
+			'readback-mismatch',
+			'stop',
+			subject,
+			`${label} at the control holds ${fmt(control)}, but Datumkeep has ${fmt(value)}${cause && cause !== 'unexplained' ? ` (likely cause: ${READBACK_CAUSE_TITLE[cause as ReadbackCause].toLowerCase()})` : ''}; read back ${new Date(r.taken_at as string).toISOString().slice(0, 16).replace('T', ' ')} UTC. Enter ${fmt(value)} at the control, then read it back again before running.`,
+			{ value, control }
+		);
+	});
 }
 
 /**

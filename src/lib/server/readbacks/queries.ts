@@ -16,7 +16,8 @@ export interface ReadbackSummary {
 }
 
 export interface ReadbackValueLine {
-	kind: 'work' | 'tool' | 'wear' | 'other';
+	/** Z/length ('work', 'tool'), noted length wear, other registers, or a component (issue 20). */
+	kind: 'work' | 'tool' | 'wear' | 'other' | 'x' | 'y' | 'radius' | 'length-wear' | 'radius-wear';
 	register: string;
 	value: number | null;
 	expected: number | null;

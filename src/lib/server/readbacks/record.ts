@@ -12,6 +12,7 @@ import {
 	isOffsetInputError,
 	parseControlFile,
 	type ControlFile,
+	type ExpectedComponents,
 	type OffsetTable,
 	type ReadbackComparison,
 	type ReadbackValues
@@ -26,6 +27,7 @@ import {
 } from '../offsets/machine-state';
 import type { Actor } from '../actor';
 import { parseLength, ReadingInputError, type ReadingIssue } from '../readings/input';
+import { currentComponents, type CurrentComponent } from '../components/store';
 import { readbackHours, syncReadbackFindings } from './findings';
 
 export interface RecordedReadback {
@@ -150,12 +152,19 @@ export async function recordReadback(
 		machine,
 		offsets.map((o) => o.offsetVersionId)
 	);
+	// Beside Z (issue 20): a saved file carries X/Y, radii and wear; typed values do not.
+	const comps = req.source === 'file' ? await currentComponents(trx, machine.id) : [];
+	const componentHistory = await olderComponentValues(trx, machine, comps);
 	const comparison = compareReadback({
 		machine: engineMachine(machine),
 		expected,
 		actual,
-		history
+		history: { ...history, components: componentHistory },
+		...(comps.length > 0 ? { expectedComponents: expectedComponentsOf(comps) } : {})
 	});
+	const componentVersion = new Map(
+		comps.map((c) => [`${c.register}|${c.component}`, c.versionId] as const)
+	);
 
 	const [rb] = await trx('readbacks')
 		.insert({
@@ -177,11 +186,16 @@ export async function recordReadback(
 	const kindOf = (section: 'work' | 'tools') => (section === 'work' ? 'work' : 'tool');
 	const rows: Record<string, unknown>[] = [
 		...comparison.rows.map((r) => ({
-			register_kind: kindOf(r.section),
+			register_kind: r.component ?? kindOf(r.section),
 			register: r.register,
 			value: r.actual,
 			expected: r.expected,
-			offset_version_id: versionOf.get(`${kindOf(r.section)}|${r.register}`) ?? null,
+			offset_version_id: r.component
+				? null
+				: (versionOf.get(`${kindOf(r.section)}|${r.register}`) ?? null),
+			component_version_id: r.component
+				? (componentVersion.get(`${r.register}|${r.component}`) ?? null)
+				: null,
 			status: r.status,
 			causes: JSON.stringify(r.causes),
 			no_point_text: r.noPoint?.text ?? null
@@ -196,10 +210,15 @@ export async function recordReadback(
 				null
 		})),
 		...comparison.onlyInDatumkeep.map((o) => ({
-			register_kind: kindOf(o.section),
+			register_kind: o.component ?? kindOf(o.section),
 			register: o.register,
 			expected: o.value,
-			offset_version_id: versionOf.get(`${kindOf(o.section)}|${o.register}`) ?? null,
+			offset_version_id: o.component
+				? null
+				: (versionOf.get(`${kindOf(o.section)}|${o.register}`) ?? null),
+			component_version_id: o.component
+				? (componentVersion.get(`${o.register}|${o.component}`) ?? null)
+				: null,
 			status: 'only-datumkeep'
 		})),
 		...Object.entries(actual.wear ?? {}).map(([h, value]) => ({
@@ -243,6 +262,44 @@ export async function recordReadback(
 		notes: file?.notes ?? [],
 		skipped: file?.skipped ?? []
 	};
+}
+
+/** Datumkeep's current X/Y, radius and wear, as the engine's read-back takes them. */
+function expectedComponentsOf(comps: CurrentComponent[]): ExpectedComponents {
+	const out: Required<ExpectedComponents> = { work: {}, tools: {} };
+	for (const c of comps) {
+		if (c.kind === 'work' && (c.component === 'x' || c.component === 'y'))
+			out.work[c.register] = { ...out.work[c.register], [c.component]: c.value };
+		else if (c.kind === 'tool') {
+			const key =
+				c.component === 'radius'
+					? 'radius'
+					: c.component === 'length-wear'
+						? 'lengthWear'
+						: 'radiusWear';
+			out.tools[c.register] = { ...out.tools[c.register], [key]: c.value };
+		}
+	}
+	return out;
+}
+
+/** Older values of every component ("G54|x" → values), not the current version: "stale". */
+async function olderComponentValues(
+	trx: Knex.Transaction,
+	machine: MachineRecord,
+	comps: CurrentComponent[]
+): Promise<Record<string, number[]>> {
+	if (comps.length === 0) return {};
+	const rows = await trx('offset_component_versions')
+		.where({ machine_id: machine.id, units: machine.units })
+		.whereNotIn(
+			'id',
+			comps.map((c) => c.versionId)
+		)
+		.select('register', 'component', 'value');
+	const out: Record<string, number[]> = {};
+	for (const r of rows) (out[`${r.register}|${r.component}`] ??= []).push(Number(r.value));
+	return out;
 }
 
 function pick(record: Record<string, number>, keys: string[]): Record<string, number> {

@@ -1,7 +1,7 @@
 import { fail } from '@sveltejs/kit';
 import { message, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
-import { DEFAULT_POLICY } from '$lib/offsets';
+import { DEFAULT_POLICY, DEFAULT_WEAR_LIMIT } from '$lib/offsets';
 import { can } from '$lib/permissions';
 import { shopSettingsSchema } from '$lib/schemas/settings';
 import { clientAddress } from '$lib/server/auth/client-address';
@@ -19,6 +19,7 @@ export const load: PageServerLoad = async (event) => {
 		form: await superValidate(settings, zod4(shopSettingsSchema), { errors: false }),
 		zones: timeZones(),
 		defaults: DEFAULT_POLICY,
+		wearDefaults: DEFAULT_WEAR_LIMIT,
 		canDelete: can(role, 'shop.delete'),
 		canExport: can(role, 'shop.export'),
 		canTransfer: can(role, 'ownership.transfer')
@@ -32,7 +33,8 @@ const LABELS: Record<string, string> = {
 	checkHour: 'check hour',
 	jumpTolerance: 'jump limit',
 	toolMaxAgeDays: 'tool length age limit',
-	workMaxAgeDays: 'work offset age limit'
+	workMaxAgeDays: 'work offset age limit',
+	wearLimit: 'wear limit'
 };
 
 export const actions: Actions = {
