@@ -8,6 +8,7 @@
 import type { Knex } from 'knex';
 import { findingTitle, formatWithUnits, type CutterRegisterMode } from '$lib/offsets';
 import { audit } from '../audit';
+import { recheckMachine } from '../fleet/recheck';
 import type { MachineRecord } from '../offsets/machine-state';
 import { ReadingInputError } from '../readings/input';
 import { requireOverride, type OverrideChoice } from '../readings/override';
@@ -229,6 +230,8 @@ export async function writeComponentVersion(
 			}
 		);
 	}
+	// Findings follow the data (fleet/recheck.ts): the board's wear and X/Y findings at once.
+	await recheckMachine(trx, machine, { what: `the new ${label}`, by: actor.id });
 	return id;
 }
 

@@ -5,6 +5,7 @@ import { withShop } from '../db/tenant';
 import { machineState, toMachineRecord } from '../offsets/machine-state';
 import type { ShopInfo } from '../shops/queries';
 import { readbackFindings, readbackHours } from '../readbacks/findings';
+import { componentFindings } from '../components/findings';
 
 /**
  * The background offset check of one shop (nightly, or "Check now"): the engine's `checkOffsets` (through
@@ -94,7 +95,9 @@ export async function runShopCheck(
 					checkedAt,
 					await readbackHours(trx, shop.id)
 				);
-				const found = [...state.findings, ...readback];
+				// X/Y, radius and wear registers (issue 20): wear past the limit, stale X/Y, slips.
+				const components = await componentFindings(trx, machine, checkedAt);
+				const found = [...state.findings, ...readback, ...components];
 				return storeFindings(
 					trx,
 					machine.id,
