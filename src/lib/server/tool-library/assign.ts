@@ -29,6 +29,7 @@ import type { BriefFinding, ReadingPreview } from '$lib/reading-preview';
 import { activeHNumbers } from '../tools/service';
 import type { Actor } from '../actor';
 import { getAssembly, type Assembly, type Measurement } from './library';
+import { endEarlierAssignments } from './placement';
 
 export interface AssignmentPreview {
 	preview: ReadingPreview;
@@ -222,7 +223,10 @@ export async function previewAssignment(
 
 /**
  * Assigns: adds the tool to the rack when the pocket is empty, records the 'presetter' reading
- * and the H's new version (Stop only with an override and its reason), and the assignment.
+ * and the H's new version (Stop only with an override and its reason), and the assignment; ends
+ * the assembly's earlier assignment and the pocket's earlier assembly (./placement.ts: one
+ * assembly, one place). `at`: when it was put in (demo data and imports of past moves);
+ * default the database's now.
  */
 export async function assignAssembly(
 	trx: Knex.Transaction,
@@ -230,9 +234,11 @@ export async function assignAssembly(
 	machine: MachineRecord,
 	form: AssignForm,
 	actor: Actor,
-	now = new Date()
-): Promise<Recorded & { assignmentId: number; toolId: number; plan: AssignmentPreview }> {
-	const plan = await previewAssignment(trx, assemblyId, machine, form, now);
+	at?: Date
+): Promise<
+	Recorded & { assignmentId: number; toolId: number; plan: AssignmentPreview; ended: number }
+> {
+	const plan = await previewAssignment(trx, assemblyId, machine, form, at ?? new Date());
 	const { assembly, measurement } = plan;
 	let toolId = plan.tool?.id;
 	if (!toolId) {
@@ -281,7 +287,8 @@ export async function assignAssembly(
 			reference_version: plan.preview.referenceVersion,
 			tool_changed: true,
 			reason: `Assembly ${assembly.name} from the tool library (measured ${measurement.measuredAt.slice(0, 10)})`,
-			presetter_measurement_id: measurement.id
+			presetter_measurement_id: measurement.id,
+			...(at ? { taken_at: at } : {})
 		},
 		plan.preview,
 		`${machine.name} T${plan.t} H${plan.h}`,
@@ -294,9 +301,16 @@ export async function assignAssembly(
 			machine_id: machine.id,
 			tool_id: toolId,
 			reading_id: recorded.readingId,
-			assigned_by: actor.id
+			assigned_by: actor.id,
+			...(at ? { assigned_at: at } : {})
 		})
 		.returning('id');
+	const ended = await endEarlierAssignments(
+		trx,
+		{ assignmentId: Number(a.id), assemblyId: assembly.id, toolId },
+		actor.id,
+		at
+	);
 	await audit(trx, {
 		actorUserId: actor.id,
 		actorEmail: actor.email,
@@ -310,8 +324,9 @@ export async function assignAssembly(
 			h: plan.h,
 			value: plan.preview.value,
 			units: machine.units,
-			readingId: recorded.readingId
+			readingId: recorded.readingId,
+			endedEarlier: ended
 		}
 	});
-	return { ...recorded, assignmentId: Number(a.id), toolId, plan };
+	return { ...recorded, assignmentId: Number(a.id), toolId, plan, ended };
 }
