@@ -272,7 +272,14 @@ export async function recentComponentVersions(
 	trx: Knex.Transaction,
 	machineId: number,
 	limit = 30
-): Promise<(ComponentVersion & { label: string })[]> {
+): Promise<
+	(ComponentVersion & {
+		label: string;
+		kind: 'work' | 'tool';
+		register: string;
+		component: ComponentKind;
+	})[]
+> {
 	const rows = await trx('offset_component_versions as v')
 		.leftJoin('public.users as u', 'u.id', 'v.created_by')
 		.where('v.machine_id', machineId)
@@ -285,6 +292,9 @@ export async function recentComponentVersions(
 	return rows.map((r) => ({
 		id: Number(r.id),
 		label: componentLabel(r.register_kind, r.register, r.component),
+		kind: r.register_kind,
+		register: String(r.register),
+		component: r.component,
 		value: Number(r.value),
 		source: r.source,
 		reason: r.reason,
