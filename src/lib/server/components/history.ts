@@ -5,7 +5,7 @@
  * register's open findings. Read-only; the rows are append-only.
  */
 import type { Knex } from 'knex';
-import { canonicalH, findingTitle } from '$lib/offsets';
+import { canonicalH, findingTitle, formatWithUnits } from '$lib/offsets';
 import { iso } from '../db/convert';
 import { componentLabel, type ComponentKind } from './store';
 
@@ -122,16 +122,16 @@ export async function componentRecord(
 	const rows: ComponentRecordRow[] = versions.map((r, i) => {
 		const older = versions[i + 1];
 		let detail = '';
+		const len = (v: unknown) => formatWithUnits(n(v), r.units);
 		if (r.source === 'edge' && r.axis) {
-			const first = `${n(r.first_coordinate)} ${side(r.axis, r.first_side)}`.trim();
+			const first = `${len(r.first_coordinate)} ${side(r.axis, r.first_side)}`.trim();
 			detail =
 				r.second_coordinate === null
-					? `edge touched ${first}, probe ⌀${n(r.probe_diameter)}`
-					: `centre of ${r.edge_feature === 'inside' ? 'a bore or slot' : 'a boss or block'}: ${first} and ${n(r.second_coordinate)} ${side(r.axis, r.second_side)}, probe ⌀${n(r.probe_diameter)}`;
+					? `edge touched at ${first}, probe ⌀${len(r.probe_diameter)}`
+					: `centre of ${r.edge_feature === 'inside' ? 'a bore or slot' : 'a boss or block'}: ${first} and ${len(r.second_coordinate)} ${side(r.axis, r.second_side)}, probe ⌀${len(r.probe_diameter)}`;
 			if (r.instrument) detail += ` (${r.instrument})`;
 		} else if (r.source === 'part' && r.part_feature) {
-			detail =
-				`${r.part_feature} measured ${n(r.measured)} for ${n(r.nominal)}: change ${n(r.change)}. ${r.explanation ?? ''}`.trim();
+			detail = `${r.part_feature} measured ${len(r.measured)} for ${len(r.nominal)}: wear change ${len(r.change)}`;
 		}
 		return {
 			id: n(r.id),
