@@ -15,6 +15,7 @@ import { assignAssembly, previewAssignment } from '$lib/server/tool-library/assi
 import { addAssembly, getAssembly, listAssemblies } from '$lib/server/tool-library/library';
 import { importPresetterCsv, saveMapping } from '$lib/server/tool-library/presetter-import';
 import { libraryToolsOf } from '$lib/server/tool-library/placement';
+import { componentRecord } from '$lib/server/components/history';
 import { testDb, uniqueSuffix } from './db';
 
 /**
@@ -413,18 +414,18 @@ describe('assigning an assembly to a pocket', () => {
 
 describe('one assembly, one place', () => {
 	it('a pocket that gets another assembly ends the one it held; a past move keeps its date', async () => {
-		const add = (name: string) =>
+		const add = (name: string, radius = '') =>
 			inShop(async (trx) => {
 				const r = await addAssembly(
 					trx,
-					assemblyFormSchema.parse({ name, gaugeLength: '101.6', units: 'mm' }),
+					assemblyFormSchema.parse({ name, gaugeLength: '101.6', radius, units: 'mm' }),
 					actor,
 					'America/Chicago'
 				);
 				if (!r.ok) throw new Error(r.message);
 				return r.id;
 			});
-		const [b1, b2] = [await add('B-1'), await add('B-2')];
+		const [b1, b2] = [await add('B-1'), await add('B-2', '6.35')];
 		const form = assignFormSchema.parse({ machineId: ids['Metric Mill'], t: '20', h: '' });
 		const twoDaysAgo = new Date(Date.now() - 2 * 86_400_000);
 		const first = await inShop(async (trx) =>
@@ -452,5 +453,13 @@ describe('one assembly, one place', () => {
 		expect(a2!.places).toEqual(['Metric Mill T20']);
 		const pocket = await inShop((trx) => libraryToolsOf(trx, ids['Metric Mill']));
 		expect(pocket.get(first.toolId)).toMatchObject({ assemblyId: b2, name: 'B-2' });
+		// B-2's measured radius set the pocket's radius register, as a presetter version.
+		const radius = await inShop(async (trx) =>
+			componentRecord(trx, ids['Metric Mill'], 'tool', String(second.plan.h), 'radius')
+		);
+		expect(radius.label).toBe(`H${second.plan.h} radius`);
+		expect(radius.rows).toHaveLength(1);
+		expect(radius.rows[0]).toMatchObject({ value: 6.35, source: 'presetter', units: 'mm' });
+		expect(radius.rows[0].detail).toMatch(/^assembly B-2, radius 6\.350 mm/);
 	});
 });

@@ -41,7 +41,7 @@ export interface ComponentRecordRow {
 	/** Change from the version before (null for the first). */
 	delta: number | null;
 	units: 'inch' | 'mm';
-	source: 'edge' | 'part' | 'entered';
+	source: 'edge' | 'part' | 'entered' | 'presetter';
 	/** What the source says, in words ("touched moving +X at 1.2000, probe 0.2000"). */
 	detail: string;
 	by: string | null;
@@ -77,6 +77,8 @@ export async function componentRecord(
 		.leftJoin('public.users as u', 'u.id', 'v.created_by')
 		.leftJoin('edge_readings as e', 'e.id', 'v.edge_reading_id')
 		.leftJoin('part_measurements as p', 'p.id', 'v.part_measurement_id')
+		.leftJoin('assembly_measurements as am', 'am.id', 'v.presetter_measurement_id')
+		.leftJoin('tool_assemblies as ta', 'ta.id', 'am.assembly_id')
 		.where({
 			'v.machine_id': machineId,
 			'v.register_kind': kind,
@@ -111,7 +113,12 @@ export async function componentRecord(
 			'p.nominal',
 			'p.measured',
 			'p.change',
-			'p.explanation'
+			'p.explanation',
+			'ta.name as assembly_name',
+			'am.radius as preset_radius',
+			'am.units as preset_units',
+			'am.presetter',
+			'am.measured_at as preset_at'
 		);
 	const findings = await trx('findings')
 		.where({ machine_id: machineId, subject: label })
@@ -132,6 +139,8 @@ export async function componentRecord(
 			if (r.instrument) detail += ` (${r.instrument})`;
 		} else if (r.source === 'part' && r.part_feature) {
 			detail = `${r.part_feature} measured ${len(r.measured)} for ${len(r.nominal)}: wear change ${len(r.change)}`;
+		} else if (r.source === 'presetter' && r.assembly_name) {
+			detail = `assembly ${r.assembly_name}, radius ${formatWithUnits(n(r.preset_radius), r.preset_units)}${r.presetter ? ` on ${r.presetter}` : ''}, measured ${iso(r.preset_at).slice(0, 10)}`;
 		}
 		return {
 			id: n(r.id),

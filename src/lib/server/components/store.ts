@@ -58,7 +58,7 @@ export async function currentComponents(
 export interface ComponentVersion {
 	id: number;
 	value: number;
-	source: 'edge' | 'entered' | 'part';
+	source: 'edge' | 'entered' | 'part' | 'presetter';
 	reason: string;
 	overrideReason: string;
 	by: string | null;
@@ -161,10 +161,14 @@ export async function writeComponentVersion(
 		register: string;
 		component: ComponentKind;
 		value: number;
-		source: 'edge' | 'entered' | 'part';
+		source: 'edge' | 'entered' | 'part' | 'presetter';
 		cutterRegister?: CutterRegisterMode;
 		edgeReadingId?: number;
 		partMeasurementId?: number;
+		/** A radius from the tool library's presetter measurement (tool-library/assign.ts). */
+		presetterMeasurementId?: number;
+		/** When it was recorded, for past events (demo data); default the database's now. */
+		at?: Date;
 		reason?: string;
 		overridden: BriefFinding[] | null;
 		overrideReason?: string;
@@ -182,6 +186,8 @@ export async function writeComponentVersion(
 			source: v.source,
 			edge_reading_id: v.edgeReadingId ?? null,
 			part_measurement_id: v.partMeasurementId ?? null,
+			...(v.presetterMeasurementId ? { presetter_measurement_id: v.presetterMeasurementId } : {}),
+			...(v.at ? { created_at: v.at } : {}),
 			reason: v.reason ?? '',
 			created_by: actor.id,
 			...(v.overridden
@@ -231,7 +237,7 @@ export async function writeComponentVersion(
 		);
 	}
 	// Findings follow the data (fleet/recheck.ts): the board's wear and X/Y findings at once.
-	await recheckMachine(trx, machine, { what: `the new ${label}`, by: actor.id });
+	await recheckMachine(trx, machine, { what: `the new ${label}`, by: actor.id }, v.at);
 	return id;
 }
 

@@ -12,6 +12,7 @@ import {
 	isOffsetInputError,
 	toolOffsetFromPresetter,
 	toUnits,
+	type CutterRegisterMode,
 	type Finding,
 	type HistoryEntry
 } from '$lib/offsets';
@@ -30,6 +31,7 @@ import { activeHNumbers } from '../tools/service';
 import type { Actor } from '../actor';
 import { getAssembly, type Assembly, type Measurement } from './library';
 import { endEarlierAssignments } from './placement';
+import { cutterRegisterOf, writeComponentVersion } from '../components/store';
 
 export interface AssignmentPreview {
 	preview: ReadingPreview;
@@ -42,6 +44,12 @@ export interface AssignmentPreview {
 	t: number;
 	h: number;
 	reference: ReferenceRecord | null;
+	/**
+	 * The pocket's radius register from the measured radius, in the machine's units and the
+	 * meaning of its D registers (a diameter machine gets twice the radius); null when the
+	 * measurement has no radius.
+	 */
+	cutter: { mode: CutterRegisterMode; value: number } | null;
 }
 
 const brief = (f: Finding): BriefFinding => ({
@@ -217,7 +225,25 @@ export async function previewAssignment(
 			: null,
 		t: form.t,
 		h,
-		reference
+		reference,
+		cutter: await cutterOf(trx, machine, measurement)
+	};
+}
+
+/** The measured radius as the machine's radius/diameter register holds it (1 in = 25.4 mm, NIST SP 811). */
+async function cutterOf(
+	trx: Knex.Transaction,
+	machine: MachineRecord,
+	m: Measurement
+): Promise<AssignmentPreview['cutter']> {
+	if (m.radius === null) return null;
+	const mode = await cutterRegisterOf(trx, machine.id);
+	const r = m.units === machine.units ? m.radius : toUnits(m.radius, m.units, machine.units);
+	const d = mode === 'diameter' ? 2 * r : r;
+	// Rounded once to the machine's resolution (docs/OFFSETS.md §3).
+	return {
+		mode,
+		value: Number((Math.round(d / machine.resolution) * machine.resolution).toFixed(6))
 	};
 }
 
@@ -305,6 +331,20 @@ export async function assignAssembly(
 			...(at ? { assigned_at: at } : {})
 		})
 		.returning('id');
+	// The measured radius goes into the pocket's radius register (its geometry; wear stays).
+	if (plan.cutter)
+		await writeComponentVersion(trx, machine, actor, {
+			kind: 'tool',
+			register: String(plan.h),
+			component: 'radius',
+			value: plan.cutter.value,
+			source: 'presetter',
+			cutterRegister: plan.cutter.mode,
+			presetterMeasurementId: measurement.id,
+			reason: `Assembly ${assembly.name} from the tool library`,
+			overridden: null,
+			at
+		});
 	const ended = await endEarlierAssignments(
 		trx,
 		{ assignmentId: Number(a.id), assemblyId: assembly.id, toolId },
