@@ -113,6 +113,9 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 	'/api/v1/shops/[shop]/machines/[machine]/components': { allowed: ALL },
 	// One component register's history (G54 X, H3 length wear…): every role reads it.
 	'/shops/[shop]/machines/[machine]/components/[kind]/[register]/[component]': { allowed: ALL },
+	'/api/v1/shops/[shop]/machines/[machine]/components/[kind]/[register]/[component]': {
+		allowed: ALL
+	},
 	'/api/v1/shops/[shop]/setups': { allowed: ALL },
 	'/api/v1/shops/[shop]/setups/[setup]': { allowed: ALL },
 	// Fleet board and findings: everyone reads; checking, scheduling and acting are lead and up.
