@@ -117,6 +117,9 @@ describe('component findings in the shop check', () => {
 		expect(m.health).toBe('stop');
 		expect(m.findings.stop).toBe(2);
 		expect(m.findings.caution).toBe(1);
+		expect(m.reason).toBe(
+			"2 stop findings: Minus sign probably added or dropped; Wear beyond the shop's limit"
+		);
 
 		const list = await withShop(shop, (trx) => digestFindings(trx, new Date()), knex);
 		const wear = list.find((f) => f.subject === 'H3 length wear');
@@ -130,13 +133,11 @@ describe('component findings in the shop check', () => {
 		await withShop(
 			shop,
 			(trx) =>
-				trx('findings')
-					.where({ machine_id: machineId, kind: 'wear-limit' })
-					.update({
-						status: 'acknowledged',
-						acknowledged_by: actor.id,
-						acknowledged_at: new Date()
-					}),
+				trx('findings').where({ machine_id: machineId, kind: 'wear-limit' }).update({
+					status: 'acknowledged',
+					acknowledged_by: actor.id,
+					acknowledged_at: new Date()
+				}),
 			knex
 		);
 		await runShopCheck(info(), { jobId: `comp-${uniqueSuffix()}`, trigger: 'manual' });
