@@ -7,7 +7,8 @@ import type { DemoAssembly } from './demo-data';
 
 /**
  * The tool library's demo assemblies (issue 20), through the same service the pages use, so
- * each pocket's H is the engine's and is recorded as a 'presetter' reading with its findings.
+ * each pocket's H is the engine's and is recorded as a 'presetter' reading with its findings,
+ * dated when it was put in; a later pocket ends the earlier (one assembly, one place).
  * `trx` has the shop's search path set.
  */
 export async function seedAssemblies(
@@ -39,7 +40,10 @@ export async function seedAssemblies(
 				added.id,
 				machine!,
 				assignFormSchema.parse({ machineId: machine!.id, t: p.t }),
-				actor
+				actor,
+				// When it was put in, so the board's "last reading" and the H's age read like a
+				// real shop's (not "just now" at seed time).
+				ctx.ago(p.daysAgo)
 			);
 		}
 	}

@@ -101,7 +101,8 @@ export interface DemoAssembly {
 	radius: number;
 	presetter: string;
 	daysAgo: number;
-	pockets: { machine: string; t: number }[];
+	/** Put in these pockets in this order, each when it happened; a later one ends the earlier. */
+	pockets: { machine: string; t: number; daysAgo: number }[];
 }
 
 export interface DemoShop {
@@ -525,7 +526,8 @@ export const demoShops: DemoShop[] = [
 				setups: []
 			}
 		],
-		// Measured on the tool-room presetter, shared by Mill 1 and Mill 4 (issue 20).
+		// Measured on the tool-room presetter, shared by Mill 1 and Mill 4 (issue 20): one
+		// assembly is in one pocket at a time, so each was tried in one mill, then moved.
 		assemblies: [
 			{
 				name: 'FH-101',
@@ -538,8 +540,8 @@ export const demoShops: DemoShop[] = [
 				presetter: 'Tool-room presetter',
 				daysAgo: 3,
 				pockets: [
-					{ machine: 'Mill 1', t: 11 },
-					{ machine: 'Mill 4', t: 11 }
+					{ machine: 'Mill 4', t: 11, daysAgo: 2.9 },
+					{ machine: 'Mill 1', t: 11, daysAgo: 2.1 }
 				]
 			},
 			{
@@ -553,8 +555,8 @@ export const demoShops: DemoShop[] = [
 				presetter: 'Tool-room presetter',
 				daysAgo: 3,
 				pockets: [
-					{ machine: 'Mill 1', t: 12 },
-					{ machine: 'Mill 4', t: 12 }
+					{ machine: 'Mill 1', t: 12, daysAgo: 2.8 },
+					{ machine: 'Mill 4', t: 12, daysAgo: 2.6 }
 				]
 			}
 		]

@@ -31,6 +31,8 @@ import * as m20261221b from './20261221090100_create_edge_readings';
 import * as m20261221c from './20261221090200_create_part_measurements';
 import * as m20261221d from './20261221090300_create_offset_components';
 import * as m20270103a from './20270103090000_add_components_to_readback_values';
+import * as m20270104a from './20270104000100_create_assembly_assignment_ends';
+import * as m20270104b from './20270104000200_add_presetter_component_source';
 
 /**
  * The migrations every shop schema gets, in order. Schema-agnostic: they run with the search
@@ -69,5 +71,7 @@ export const shopMigrations: Record<string, Knex.Migration> = {
 	'20261221090100_create_edge_readings': m20261221b,
 	'20261221090200_create_part_measurements': m20261221c,
 	'20261221090300_create_offset_components': m20261221d,
-	'20270103090000_add_components_to_readback_values': m20270103a
+	'20270103090000_add_components_to_readback_values': m20270103a,
+	'20270104000100_create_assembly_assignment_ends': m20270104a,
+	'20270104000200_add_presetter_component_source': m20270104b
 };

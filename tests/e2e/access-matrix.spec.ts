@@ -111,6 +111,11 @@ const SHOP_ROUTES: Record<string, ShopRoute> = {
 		actions: ['edgePreview', 'edgeSave']
 	},
 	'/api/v1/shops/[shop]/machines/[machine]/components': { allowed: ALL },
+	// One component register's history (G54 X, H3 length wear…): every role reads it.
+	'/shops/[shop]/machines/[machine]/components/[kind]/[register]/[component]': { allowed: ALL },
+	'/api/v1/shops/[shop]/machines/[machine]/components/[kind]/[register]/[component]': {
+		allowed: ALL
+	},
 	'/api/v1/shops/[shop]/setups': { allowed: ALL },
 	'/api/v1/shops/[shop]/setups/[setup]': { allowed: ALL },
 	// Fleet board and findings: everyone reads; checking, scheduling and acting are lead and up.
@@ -184,6 +189,7 @@ const PARAMS: Record<string, string> = {
 	'[check]': '1',
 	'[kind]': 'tool',
 	'[register]': '2',
+	'[component]': 'length-wear',
 	'[token]': 'not-a-real-token-0123456789abcdef0123456',
 	// The demo seed's first tool-library assembly (issue 20).
 	'[assembly]': '1'

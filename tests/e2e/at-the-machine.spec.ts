@@ -44,7 +44,9 @@ const PAGES: { path: string; name: string; primary?: [string, RegExp | string] }
 	{ path: `${MILL1}/history/work/G54`, name: 'history-g54', primary: ['link', 'Correct'] },
 	{ path: `${MILL1}/machine-mode`, name: 'machine-mode', primary: ['link', 'Touch off T1'] },
 	{ path: `${MILL1}/labels`, name: 'labels', primary: ['button', 'Print'] },
-	{ path: `${MILL1}/components`, name: 'components', primary: ['button', 'Work it out'] }
+	{ path: `${MILL1}/components`, name: 'components', primary: ['button', 'Work it out'] },
+	{ path: `${MILL1}/components/tool/3/length-wear`, name: 'component-history-h3-wear' },
+	{ path: `${MILL1}/components/work/G54/x`, name: 'component-history-g54-x' }
 ];
 
 for (const vp of [

@@ -92,6 +92,14 @@ test('a lead enters a shallow pocket depth on T3 and accepts the proposed wear',
 	const expected = (wearBefore - 0.002).toFixed(4);
 	await expect(page.getByTestId('length-wear-3')).toHaveText(`${expected} in`);
 	await expect(page.getByTestId('component-history')).toContainText('measured part: the floor is');
+	// The register's own history page: every version with where it came from.
+	await page.getByTestId('length-wear-3').getByRole('link').click();
+	await expect(page).toHaveURL(/\/components\/tool\/3\/length-wear$/);
+	await expect(page.getByTestId('current-value')).toHaveText(`${expected} in`);
+	await expect(page.getByTestId('component-history-table').getByRole('row').nth(1)).toContainText(
+		'Wear from a measured part'
+	);
+	await shot(page, 'component-history-h3-wear');
 });
 
 test('the setup load program carries X, Y, Z and the wear line, and reads back the same', async ({
@@ -139,5 +147,11 @@ test('the JSON API: same guard and gate (operator records edges, only leads set 
 	expect((await proposal.json()).proposal.change).toBe(0.001);
 	const state = await (await operator.get(api)).json();
 	expect(state.tools.find((t: { h: string }) => t.h === '3').lengthWear).toBeLessThan(0);
+	// One register's record: any member of the shop, nobody else.
+	const record = await (await operator.get(`${api}/tool/3/length-wear`)).json();
+	expect(record.label).toBe('H3 length wear');
+	expect(record.rows[0].value).toBe(state.tools.find((t: { h: string }) => t.h === '3').lengthWear);
+	expect((await outsider.get(`${api}/tool/3/length-wear`)).status()).toBe(404);
+	expect((await operator.get(`${api}/tool/3/z`)).status()).toBe(404);
 	for (const c of [operator, lead, outsider]) await c.dispose();
 });

@@ -28,12 +28,17 @@ test('a lead imports a presetter CSV (decimal comma, mm) and puts an assembly in
 	test.setTimeout(90_000);
 	const page = await signedIn(browser, FERNHILL.lead);
 	await page.getByRole('link', { name: 'Tool library' }).click();
-	// The demo's presetter-measured assemblies, shared by Mill 1 and Mill 4.
+	// The demo's presetter-measured assemblies, shared by Mill 1 and Mill 4: one place at a time.
 	await expect(page.getByTestId('library-table')).toContainText('FH-101');
 	await expect(page.getByTestId('library-table')).toContainText('4.2875 in');
-	await expect(
-		page.getByTestId('library-table').getByRole('row').filter({ hasText: 'FH-101' })
-	).toContainText('Mill 1 T11, Mill 4 T11');
+	const fh101 = page.getByTestId('library-table').getByRole('row').filter({ hasText: 'FH-101' });
+	await expect(fh101).toContainText('Mill 1 T11');
+	await expect(fh101).not.toContainText('Mill 4');
+	await fh101.getByRole('link', { name: 'FH-101' }).click();
+	await expect(page.getByTestId('assembly-now')).toContainText('Now: Mill 1 T11');
+	const was = page.getByTestId('assignments-table').getByRole('row').filter({ hasText: 'Mill 4' });
+	await expect(was).toContainText('moved to another pocket');
+	await page.getByRole('link', { name: 'Tool library' }).first().click();
 
 	await page.getByRole('link', { name: 'Import from a presetter' }).click();
 	await page.getByLabel('Assembly name column').fill('Tool');
@@ -97,6 +102,13 @@ test('a lead imports a presetter CSV (decimal comma, mm) and puts an assembly in
 	await expect(page).toHaveURL(/\/machines\/1\/history\/tool\/8\?saved=\d+$/);
 	await expect(page.getByRole('table')).toContainText('From the presetter');
 	await expect(page.getByRole('table')).toContainText('-15.8400 in');
+	// Mill 1's rack says which tools came from the library, with a link to the assembly.
+	await page.goto(`${SHOP}/machines/1/tools`);
+	const t8 = page
+		.getByTestId('rack-table')
+		.getByRole('row')
+		.filter({ hasText: `${a}-A` });
+	await expect(t8.getByTestId('from-library')).toHaveText(`From the library: ${a}-A`);
 
 	// The JSON API shows the same: Mill 1's current H8 is the presetter value.
 	const api = await signedInClient(FERNHILL.operator);

@@ -95,7 +95,8 @@ describe('tool library as the shop role', () => {
 			'assembly_measurements',
 			'presetter_mappings',
 			'presetter_imports',
-			'assembly_assignments'
+			'assembly_assignments',
+			'assembly_assignment_ends'
 		]) {
 			await expect(
 				inShop((trx) => trx(table).update({ id: 999 })),

@@ -14,6 +14,8 @@ import { provisionShop } from '$lib/server/shops/provision';
 import { assignAssembly, previewAssignment } from '$lib/server/tool-library/assign';
 import { addAssembly, getAssembly, listAssemblies } from '$lib/server/tool-library/library';
 import { importPresetterCsv, saveMapping } from '$lib/server/tool-library/presetter-import';
+import { libraryToolsOf } from '$lib/server/tool-library/placement';
+import { componentRecord } from '$lib/server/components/history';
 import { testDb, uniqueSuffix } from './db';
 
 /**
@@ -286,8 +288,27 @@ describe('assigning an assembly to a pocket', () => {
 		expect(new Set(a!.assignments.map((s) => s.measurementId)).size).toBe(1);
 		expect(a!.assignments.map((s) => s.machineName).sort()).toEqual(['Metric Mill', 'Touch Mill']);
 		expect(await count('assembly_measurements')).toBe(before);
+		// One assembly, one place: the move ended the Touch Mill assignment (the tool stays there).
 		const listed = (await inShop((trx) => listAssemblies(trx))).find((x) => x.id === ids['A-1']);
-		expect(listed!.places.sort()).toEqual(['Metric Mill T12', 'Touch Mill T6']);
+		expect(listed!.places).toEqual(['Metric Mill T12']);
+		expect(a!.places).toEqual(['Metric Mill T12']);
+		const [now, was] = a!.assignments;
+		expect(now).toMatchObject({ machineName: 'Metric Mill', endedAt: null, endReason: null });
+		expect(was).toMatchObject({ machineName: 'Touch Mill', endReason: 'moved' });
+		expect(was.endedAt).not.toBeNull();
+		expect(r.ended).toBe(1);
+		const touchTools = await inShop(async (trx) =>
+			libraryToolsOf(trx, ids['Touch Mill']).then((m) => [...m.values()])
+		);
+		expect(touchTools).toEqual([]);
+		const metricTools = await inShop(async (trx) =>
+			libraryToolsOf(trx, ids['Metric Mill']).then((m) => [...m.entries()])
+		);
+		expect(metricTools).toEqual([[r.toolId, expect.objectContaining({ assemblyId: ids['A-1'] })]]);
+		// The end is append-only like the assignment itself.
+		await expect(
+			inShop((trx) => trx('assembly_assignment_ends').update({ reason: 'replaced' }))
+		).rejects.toThrow();
 	});
 
 	it('master-tool: H = L − L_m, with the master touched on the reference (L_m = touch − R)', async () => {
@@ -388,5 +409,57 @@ describe('assigning an assembly to a pocket', () => {
 		});
 		const r = await inShop((trx) => addAssembly(trx, form, actor, 'America/Chicago'));
 		expect(r).toMatchObject({ ok: false, field: 'name' });
+	});
+});
+
+describe('one assembly, one place', () => {
+	it('a pocket that gets another assembly ends the one it held; a past move keeps its date', async () => {
+		const add = (name: string, radius = '') =>
+			inShop(async (trx) => {
+				const r = await addAssembly(
+					trx,
+					assemblyFormSchema.parse({ name, gaugeLength: '101.6', radius, units: 'mm' }),
+					actor,
+					'America/Chicago'
+				);
+				if (!r.ok) throw new Error(r.message);
+				return r.id;
+			});
+		const [b1, b2] = [await add('B-1'), await add('B-2', '6.35')];
+		const form = assignFormSchema.parse({ machineId: ids['Metric Mill'], t: '20', h: '' });
+		const twoDaysAgo = new Date(Date.now() - 2 * 86_400_000);
+		const first = await inShop(async (trx) =>
+			assignAssembly(trx, b1, await machine(trx, 'Metric Mill'), form, actor, twoDaysAgo)
+		);
+		// Recorded when it was put in: the reading, the H's version and the assignment.
+		const dated = await inShop((trx) =>
+			trx('readings as r')
+				.join('offset_versions as o', 'o.reading_id', 'r.id')
+				.join('assembly_assignments as s', 's.reading_id', 'r.id')
+				.where('r.id', first.readingId)
+				.first('r.taken_at', 'o.created_at', 's.assigned_at')
+		);
+		for (const t of Object.values(dated))
+			expect(new Date(t as Date).getTime()).toBe(twoDaysAgo.getTime());
+
+		const second = await inShop(async (trx) =>
+			assignAssembly(trx, b2, await machine(trx, 'Metric Mill'), form, actor)
+		);
+		expect(second.toolId).toBe(first.toolId);
+		const a1 = await inShop((trx) => getAssembly(trx, b1));
+		expect(a1!.places).toEqual([]);
+		expect(a1!.assignments[0]).toMatchObject({ endReason: 'replaced' });
+		const a2 = await inShop((trx) => getAssembly(trx, b2));
+		expect(a2!.places).toEqual(['Metric Mill T20']);
+		const pocket = await inShop((trx) => libraryToolsOf(trx, ids['Metric Mill']));
+		expect(pocket.get(first.toolId)).toMatchObject({ assemblyId: b2, name: 'B-2' });
+		// B-2's measured radius set the pocket's radius register, as a presetter version.
+		const radius = await inShop(async (trx) =>
+			componentRecord(trx, ids['Metric Mill'], 'tool', String(second.plan.h), 'radius')
+		);
+		expect(radius.label).toBe(`H${second.plan.h} radius`);
+		expect(radius.rows).toHaveLength(1);
+		expect(radius.rows[0]).toMatchObject({ value: 6.35, source: 'presetter', units: 'mm' });
+		expect(radius.rows[0].detail).toMatch(/^assembly B-2, radius 6\.350 mm/);
 	});
 });

@@ -58,7 +58,7 @@ export async function currentComponents(
 export interface ComponentVersion {
 	id: number;
 	value: number;
-	source: 'edge' | 'entered' | 'part';
+	source: 'edge' | 'entered' | 'part' | 'presetter';
 	reason: string;
 	overrideReason: string;
 	by: string | null;
@@ -161,10 +161,14 @@ export async function writeComponentVersion(
 		register: string;
 		component: ComponentKind;
 		value: number;
-		source: 'edge' | 'entered' | 'part';
+		source: 'edge' | 'entered' | 'part' | 'presetter';
 		cutterRegister?: CutterRegisterMode;
 		edgeReadingId?: number;
 		partMeasurementId?: number;
+		/** A radius from the tool library's presetter measurement (tool-library/assign.ts). */
+		presetterMeasurementId?: number;
+		/** When it was recorded, for past events (demo data); default the database's now. */
+		at?: Date;
 		reason?: string;
 		overridden: BriefFinding[] | null;
 		overrideReason?: string;
@@ -182,6 +186,8 @@ export async function writeComponentVersion(
 			source: v.source,
 			edge_reading_id: v.edgeReadingId ?? null,
 			part_measurement_id: v.partMeasurementId ?? null,
+			...(v.presetterMeasurementId ? { presetter_measurement_id: v.presetterMeasurementId } : {}),
+			...(v.at ? { created_at: v.at } : {}),
 			reason: v.reason ?? '',
 			created_by: actor.id,
 			...(v.overridden
@@ -242,7 +248,7 @@ export async function writeComponentVersion(
 	}
 	// Findings follow the data: the machine's checks (read-back mismatches of this component
 	// included) run again in this transaction, as after a reading.
-	await recheckMachine(trx, machine, { what: `the new value of ${label}`, by: actor.id });
+	await recheckMachine(trx, machine, { what: `the new value of ${label}`, by: actor.id }, v.at);
 	return id;
 }
 
@@ -283,7 +289,14 @@ export async function recentComponentVersions(
 	trx: Knex.Transaction,
 	machineId: number,
 	limit = 30
-): Promise<(ComponentVersion & { label: string })[]> {
+): Promise<
+	(ComponentVersion & {
+		label: string;
+		kind: 'work' | 'tool';
+		register: string;
+		component: ComponentKind;
+	})[]
+> {
 	const rows = await trx('offset_component_versions as v')
 		.leftJoin('public.users as u', 'u.id', 'v.created_by')
 		.where('v.machine_id', machineId)
@@ -296,6 +309,9 @@ export async function recentComponentVersions(
 	return rows.map((r) => ({
 		id: Number(r.id),
 		label: componentLabel(r.register_kind, r.register, r.component),
+		kind: r.register_kind,
+		register: String(r.register),
+		component: r.component,
 		value: Number(r.value),
 		source: r.source,
 		reason: r.reason,

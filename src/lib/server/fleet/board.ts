@@ -1,6 +1,6 @@
 import type { Knex } from 'knex';
 import { iso } from '../db/convert';
-import { DEFAULT_POLICY } from '$lib/offsets';
+import { DEFAULT_POLICY, findingTitle } from '$lib/offsets';
 import type { FleetBoard, FleetMachine, Health, LastCheck } from '$lib/fleet';
 import { boardVerification } from '../readbacks/status';
 
@@ -63,7 +63,8 @@ export async function fleetBoard(
 	);
 
 	const findings = await trx.raw(
-		`select machine_id, severity, status, (kind like 'stale-%') as stale, count(*)::int as n
+		`select machine_id, severity, status, (kind like 'stale-%') as stale, count(*)::int as n,
+			array_agg(distinct kind order by kind) as kinds
 		from findings where status <> 'resolved'
 		group by machine_id, severity, status, (kind like 'stale-%')`
 	);
@@ -95,6 +96,7 @@ export async function fleetBoard(
 		number,
 		{ stop: number; caution: number; acknowledged: number; staleFindings: number; stopAny: number }
 	>();
+	const stopTitles = new Map<number, string[]>();
 	for (const f of findings.rows) {
 		const id = Number(f.machine_id);
 		const c = counts.get(id) ?? {
@@ -106,7 +108,13 @@ export async function fleetBoard(
 		};
 		if (f.status === 'open') c[f.severity as 'stop' | 'caution'] += f.n;
 		else c.acknowledged += f.n;
-		if (f.severity === 'stop') c.stopAny += f.n;
+		if (f.severity === 'stop') {
+			c.stopAny += f.n;
+			// What the Stops are, in plain titles (finding-titles.ts), for the reason line.
+			const titles = stopTitles.get(id) ?? [];
+			for (const k of f.kinds as string[]) titles.push(findingTitle(k));
+			stopTitles.set(id, [...new Set(titles)].sort());
+		}
 		if (f.stale) c.staleFindings += f.n;
 		counts.set(id, c);
 	}
@@ -125,7 +133,7 @@ export async function fleetBoard(
 			staleFindings: 0,
 			stopAny: 0
 		};
-		const { health, reason } = healthOf(m.reference_version !== null, o, c);
+		const { health, reason } = healthOf(m.reference_version !== null, o, c, stopTitles.get(id));
 		return {
 			id,
 			name: String(m.name),
@@ -171,11 +179,24 @@ const plural = (n: number, one: string, many = `${one}s`) => `${n} ${n === 1 ? o
 export function healthOf(
 	hasReference: boolean,
 	o: { registers: number; staleReference: number; staleAge: number },
-	c: { stop: number; caution: number; acknowledged: number; staleFindings: number; stopAny: number }
+	c: {
+		stop: number;
+		caution: number;
+		acknowledged: number;
+		staleFindings: number;
+		stopAny: number;
+	},
+	/** Plain titles of the Stop findings' kinds, named after the count. */
+	stopTitles: string[] = []
 ): { health: Health; reason: string } {
 	if (!hasReference) return { health: 'unset', reason: 'No reference recorded' };
 	if (o.registers === 0) return { health: 'unset', reason: 'No offsets measured yet' };
-	if (c.stopAny > 0) return { health: 'stop', reason: plural(c.stopAny, 'stop finding') };
+	if (c.stopAny > 0)
+		return {
+			health: 'stop',
+			reason:
+				plural(c.stopAny, 'stop finding') + (stopTitles.length ? `: ${stopTitles.join('; ')}` : '')
+		};
 	if (o.staleReference > 0)
 		return {
 			health: 'stale',

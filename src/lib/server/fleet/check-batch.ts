@@ -22,7 +22,8 @@ import {
 	type MachineRecord,
 	type SetupRows
 } from '../offsets/machine-state';
-import { readbackFindingsFrom } from '../readbacks/findings';
+import { componentFindings } from '../components/findings';
+import { componentMismatches, readbackFindingsFrom } from '../readbacks/findings';
 import { LAST_COMPARED_SQL, verificationRowFrom } from '../readbacks/status';
 import { shopPolicy } from '../shops/settings';
 import { findingRowKey, subjectLabel, type ResolveNote } from './check';
@@ -149,7 +150,7 @@ export async function findingsOfMachines(
 	const inUse = byMachine(inUseRows as Record<string, unknown>[]);
 	const policy = await shopPolicy(trx);
 
-	return machines.map((machine) => {
+	const results = machines.map((machine) => {
 		const reference = (references.get(machine.id) ?? []).map(referenceFrom)[0] ?? null;
 		const current = (offsets.get(machine.id) ?? []).map(currentOffsetFrom);
 		const table = tableFrom(machine, current);
@@ -191,6 +192,23 @@ export async function findingsOfMachines(
 		for (const s of state.checkInput.setups ?? []) if (s.id && s.name) setupNames.set(s.id, s.name);
 		return { machineId: machine.id, findings: [...state.findings, ...readback], setupNames };
 	});
+
+	// X/Y, radius and wear registers: read machine by machine (componentFindings and the
+	// read-back mismatches beside Z), but only for the machines that have any, found in one
+	// statement — most machines keep Z only, and the batch stays a dozen statements for them.
+	const { rows: withComponents } = (await trx.raw(
+		'select distinct machine_id from offset_component_versions where machine_id = any(:ids)',
+		{ ids }
+	)) as { rows: { machine_id: number | string }[] };
+	const has = new Set(withComponents.map((r) => Number(r.machine_id)));
+	for (const [i, machine] of machines.entries()) {
+		if (!has.has(machine.id)) continue;
+		results[i].findings.push(
+			...(await componentMismatches(trx, machine)),
+			...(await componentFindings(trx, machine, now))
+		);
+	}
+	return results;
 }
 
 /**

@@ -2,6 +2,7 @@ import type { Knex } from 'knex';
 import { machineState, type MachineRecord } from '../offsets/machine-state';
 import { storeFindings } from './check';
 import { readbackFindings, DEFAULT_READBACK_HOURS } from '../readbacks/findings';
+import { componentFindings } from '../components/findings';
 
 /** The read-back hours of the shop whose schema this transaction is in. */
 async function shopReadbackHours(trx: Knex.Transaction): Promise<number> {
@@ -39,7 +40,7 @@ export async function recheckMachine(
 	return storeFindings(
 		trx,
 		machine.id,
-		[...state.findings, ...readback],
+		[...state.findings, ...readback, ...(await componentFindings(trx, machine, now))],
 		now,
 		{ comment: `resolved by ${cause.what} at ${at}${zone}`, by: cause.by ?? null },
 		names

@@ -107,7 +107,7 @@ export async function readbackFindings(
  * "H3 radius wear" (as the component's own findings name it). A new version of the component
  * (re-measured, or entered to match) ends it, as for Z.
  */
-async function componentMismatches(
+export async function componentMismatches(
 	trx: Knex.Transaction,
 	machine: MachineRecord
 ): Promise<Finding[]> {

@@ -60,7 +60,9 @@ export async function writeReadingAndOffset(
 			convention: machine.convention,
 			reading_id: r.id,
 			reference_version: preview.referenceVersion,
-			created_by: actor.id
+			created_by: actor.id,
+			// The reading's own time (the same now() unless a caller recorded a past reading).
+			created_at: r.taken_at
 		})
 		.returning('id');
 	await audit(trx, {

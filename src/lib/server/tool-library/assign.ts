@@ -12,6 +12,7 @@ import {
 	isOffsetInputError,
 	toolOffsetFromPresetter,
 	toUnits,
+	type CutterRegisterMode,
 	type Finding,
 	type HistoryEntry
 } from '$lib/offsets';
@@ -29,6 +30,8 @@ import type { BriefFinding, ReadingPreview } from '$lib/reading-preview';
 import { activeHNumbers } from '../tools/service';
 import type { Actor } from '../actor';
 import { getAssembly, type Assembly, type Measurement } from './library';
+import { endEarlierAssignments } from './placement';
+import { cutterRegisterOf, writeComponentVersion } from '../components/store';
 
 export interface AssignmentPreview {
 	preview: ReadingPreview;
@@ -41,6 +44,12 @@ export interface AssignmentPreview {
 	t: number;
 	h: number;
 	reference: ReferenceRecord | null;
+	/**
+	 * The pocket's radius register from the measured radius, in the machine's units and the
+	 * meaning of its D registers (a diameter machine gets twice the radius); null when the
+	 * measurement has no radius.
+	 */
+	cutter: { mode: CutterRegisterMode; value: number } | null;
 }
 
 const brief = (f: Finding): BriefFinding => ({
@@ -216,13 +225,34 @@ export async function previewAssignment(
 			: null,
 		t: form.t,
 		h,
-		reference
+		reference,
+		cutter: await cutterOf(trx, machine, measurement)
+	};
+}
+
+/** The measured radius as the machine's radius/diameter register holds it (1 in = 25.4 mm, NIST SP 811). */
+async function cutterOf(
+	trx: Knex.Transaction,
+	machine: MachineRecord,
+	m: Measurement
+): Promise<AssignmentPreview['cutter']> {
+	if (m.radius === null) return null;
+	const mode = await cutterRegisterOf(trx, machine.id);
+	const r = m.units === machine.units ? m.radius : toUnits(m.radius, m.units, machine.units);
+	const d = mode === 'diameter' ? 2 * r : r;
+	// Rounded once to the machine's resolution (docs/OFFSETS.md §3).
+	return {
+		mode,
+		value: Number((Math.round(d / machine.resolution) * machine.resolution).toFixed(6))
 	};
 }
 
 /**
  * Assigns: adds the tool to the rack when the pocket is empty, records the 'presetter' reading
- * and the H's new version (Stop only with an override and its reason), and the assignment.
+ * and the H's new version (Stop only with an override and its reason), and the assignment; ends
+ * the assembly's earlier assignment and the pocket's earlier assembly (./placement.ts: one
+ * assembly, one place). `at`: when it was put in (demo data and imports of past moves);
+ * default the database's now.
  */
 export async function assignAssembly(
 	trx: Knex.Transaction,
@@ -230,9 +260,11 @@ export async function assignAssembly(
 	machine: MachineRecord,
 	form: AssignForm,
 	actor: Actor,
-	now = new Date()
-): Promise<Recorded & { assignmentId: number; toolId: number; plan: AssignmentPreview }> {
-	const plan = await previewAssignment(trx, assemblyId, machine, form, now);
+	at?: Date
+): Promise<
+	Recorded & { assignmentId: number; toolId: number; plan: AssignmentPreview; ended: number }
+> {
+	const plan = await previewAssignment(trx, assemblyId, machine, form, at ?? new Date());
 	const { assembly, measurement } = plan;
 	let toolId = plan.tool?.id;
 	if (!toolId) {
@@ -281,7 +313,8 @@ export async function assignAssembly(
 			reference_version: plan.preview.referenceVersion,
 			tool_changed: true,
 			reason: `Assembly ${assembly.name} from the tool library (measured ${measurement.measuredAt.slice(0, 10)})`,
-			presetter_measurement_id: measurement.id
+			presetter_measurement_id: measurement.id,
+			...(at ? { taken_at: at } : {})
 		},
 		plan.preview,
 		`${machine.name} T${plan.t} H${plan.h}`,
@@ -294,9 +327,30 @@ export async function assignAssembly(
 			machine_id: machine.id,
 			tool_id: toolId,
 			reading_id: recorded.readingId,
-			assigned_by: actor.id
+			assigned_by: actor.id,
+			...(at ? { assigned_at: at } : {})
 		})
 		.returning('id');
+	// The measured radius goes into the pocket's radius register (its geometry; wear stays).
+	if (plan.cutter)
+		await writeComponentVersion(trx, machine, actor, {
+			kind: 'tool',
+			register: String(plan.h),
+			component: 'radius',
+			value: plan.cutter.value,
+			source: 'presetter',
+			cutterRegister: plan.cutter.mode,
+			presetterMeasurementId: measurement.id,
+			reason: `Assembly ${assembly.name} from the tool library`,
+			overridden: null,
+			at
+		});
+	const ended = await endEarlierAssignments(
+		trx,
+		{ assignmentId: Number(a.id), assemblyId: assembly.id, toolId },
+		actor.id,
+		at
+	);
 	await audit(trx, {
 		actorUserId: actor.id,
 		actorEmail: actor.email,
@@ -310,8 +364,9 @@ export async function assignAssembly(
 			h: plan.h,
 			value: plan.preview.value,
 			units: machine.units,
-			readingId: recorded.readingId
+			readingId: recorded.readingId,
+			endedEarlier: ended
 		}
 	});
-	return { ...recorded, assignmentId: Number(a.id), toolId, plan };
+	return { ...recorded, assignmentId: Number(a.id), toolId, plan, ended };
 }

@@ -36,7 +36,10 @@ export interface Assembly {
 	/** The newest measurement (by measured time): the assembly's length now. */
 	latest: Measurement | null;
 	measurementCount: number;
-	/** The pockets it was last put in, one per machine ("Mill 1 T11"), while that tool is in the rack. */
+	/**
+	 * Where it is now ("Mill 1 T11"): its assignment not ended by a later one (./placement.ts),
+	 * while that tool is in the rack. One place, or none.
+	 */
 	places: string[];
 }
 
@@ -52,6 +55,11 @@ export interface Assignment {
 	units: Units;
 	by: string | null;
 	at: string;
+	/** When it left that pocket (moved to another, or the pocket got another assembly); null: there now. */
+	endedAt: string | null;
+	endReason: 'moved' | 'replaced' | null;
+	/** The tool of that pocket was archived (the assembly is no longer there either). */
+	toolArchived: boolean;
 }
 
 const num = (v: unknown) => (v === null || v === undefined ? null : Number(v));
@@ -99,12 +107,10 @@ export async function listAssemblies(trx: Knex.Transaction): Promise<Assembly[]>
 		.join('tools as t', 't.id', 's.tool_id')
 		.whereNull('t.archived_at')
 		.whereNull('mc.archived_at')
-		.distinctOn('s.assembly_id', 's.machine_id')
-		.orderBy([
-			{ column: 's.assembly_id' },
-			{ column: 's.machine_id' },
-			{ column: 's.assigned_at', order: 'desc' }
-		])
+		.whereNotExists((q) =>
+			q.select(1).from('assembly_assignment_ends as e').whereRaw('e.assignment_id = s.id')
+		)
+		.orderBy([{ column: 's.assembly_id' }, { column: 's.assigned_at', order: 'desc' }])
 		.select('s.assembly_id', 'mc.name', 't.t_number');
 	const places = new Map<number, string[]>();
 	for (const p of placed) {
@@ -144,6 +150,7 @@ export async function getAssembly(
 		.join('machines as mc', 'mc.id', 's.machine_id')
 		.join('tools as t', 't.id', 's.tool_id')
 		.leftJoin('offset_versions as o', 'o.reading_id', 's.reading_id')
+		.leftJoin('assembly_assignment_ends as e', 'e.assignment_id', 's.id')
 		.leftJoin('public.users as u', 'u.id', 's.assigned_by')
 		.where('s.assembly_id', id)
 		.orderBy([
@@ -161,7 +168,11 @@ export async function getAssembly(
 			's.reading_id',
 			'o.value',
 			'u.name as by_name',
-			's.assigned_at'
+			's.assigned_at',
+			'e.ended_at',
+			'e.reason as end_reason',
+			't.archived_at as tool_archived_at',
+			'mc.archived_at as machine_archived_at'
 		);
 	return {
 		id: Number(a.id),
@@ -173,14 +184,10 @@ export async function getAssembly(
 		createdAt: iso(a.created_at),
 		latest: measurements[0] ?? null,
 		measurementCount: measurements.length,
-		// Newest assignment per machine (the list is newest first).
-		places: [
-			...new Map<string, string>(
-				assignments
-					.map((s): [string, string] => [String(s.machine_id), `${s.machine_name} T${s.t_number}`])
-					.reverse()
-			).values()
-		],
+		// Where it is now: the assignment not ended, while its tool and machine are in use.
+		places: assignments
+			.filter((s) => !s.ended_at && !s.tool_archived_at && !s.machine_archived_at)
+			.map((s) => `${s.machine_name} T${s.t_number}`),
 		measurements,
 		assignments: assignments.map((s) => ({
 			id: Number(s.id),
@@ -193,7 +200,10 @@ export async function getAssembly(
 			value: num(s.value),
 			units: s.units,
 			by: s.by_name ?? null,
-			at: iso(s.assigned_at)
+			at: iso(s.assigned_at),
+			endedAt: s.ended_at ? iso(s.ended_at) : null,
+			endReason: s.end_reason ?? null,
+			toolArchived: !!s.tool_archived_at
 		}))
 	};
 }

@@ -92,7 +92,8 @@ async function assignStep(event: RequestEvent, save: boolean) {
 						},
 						t: plan.t,
 						h: plan.h,
-						newTool: plan.tool === null
+						newTool: plan.tool === null,
+						cutter: plan.cutter
 					}
 				};
 			}

@@ -9,6 +9,7 @@ import { withShop } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
 import { machineFromParam } from '$lib/server/machines/load';
 import { machineOverview } from '$lib/server/offsets/overview';
+import { libraryToolsOf } from '$lib/server/tool-library/placement';
 import { parseToolCsv, TOOL_CSV_MAX_BYTES } from '$lib/server/tools/csv';
 import {
 	activeHNumbers,
@@ -29,9 +30,12 @@ export const load: PageServerLoad = async (event) => {
 	return withShop(shop, async (trx) => {
 		const machine = await machineFromParam(trx, event.params.machine);
 		const overview = await machineOverview(trx, machine);
+		// Tools that hold a tool-library assembly now (tool id → assembly), for the "from the library" link.
+		const library = Object.fromEntries(await libraryToolsOf(trx, machine.id));
 		return {
 			machine,
 			tools: overview.toolRows,
+			library,
 			form: await superValidate(zod4(toolFormSchema), { id: 'add-tool' }),
 			canEdit: can(role, 'machines.write'),
 			maxKb: TOOL_CSV_MAX_BYTES / 1024
