@@ -4,6 +4,7 @@ import { withShop } from '$lib/server/db/tenant';
 import { findingsOfMachines, storeFindingsMany } from '$lib/server/fleet/check-batch';
 import { storeFindings, subjectLabel } from '$lib/server/fleet/check';
 import { machineState, toMachineRecord } from '$lib/server/offsets/machine-state';
+import { componentFindings } from '$lib/server/components/findings';
 import { readbackFindings, readbackHours } from '$lib/server/readbacks/findings';
 import { testDb } from './db';
 
@@ -117,7 +118,11 @@ describe('the set-based shop check and the machine-by-machine one agree', async 
 						const names = new Map<string, string>();
 						for (const s of state.checkInput.setups ?? [])
 							if (s.id && s.name) names.set(s.id, s.name);
-						const found = [...state.findings, ...(await readbackFindings(trx, m, at, hours))];
+						const found = [
+							...state.findings,
+							...(await readbackFindings(trx, m, at, hours)),
+							...(await componentFindings(trx, m, at))
+						];
 						one.push({
 							machineId: m.id,
 							findings: found,

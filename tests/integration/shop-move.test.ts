@@ -230,6 +230,17 @@ describe('npm run shop:move', () => {
 		expect(await schemaExists(home, result.keptAs!)).toBe(true);
 		expect(await mapOf(moving.shop.id)).toEqual({ server: 'b', moving_to: null });
 
+		// B knows the shop's key (row-level security opens its tables only with it), the same as A's.
+		const keyOf = async (k: Knex) =>
+			(
+				await k.raw(
+					"select encode(token_hash, 'hex') as h from public.dk_shop_keys where schema_name = ?",
+					[moving.shop.schemaName]
+				)
+			).rows[0]?.h;
+		expect(await keyOf(b)).toMatch(/^[0-9a-f]{64}$/);
+		expect(await keyOf(b)).toBe(await keyOf(home));
+
 		// Append-only on B: even the superuser's UPDATE of a reading is refused by the trigger.
 		await expect(
 			b.raw('update ??.readings set machine_z = 0', [moving.shop.schemaName])

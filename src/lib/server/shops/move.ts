@@ -5,6 +5,7 @@ import { join } from 'node:path';
 import { promisify } from 'node:util';
 import type { Knex } from 'knex';
 import { createDb } from '../db';
+import { keyShopSchema } from '../db/migrate';
 import { databaseOf, OWNER_ROLE, shopRoleName } from '../db/roles';
 import { assertShopSchema } from '../db/schema-name';
 import { HOME_SERVER } from '../db/servers';
@@ -274,6 +275,9 @@ export async function moveShop(o: MoveOptions): Promise<MoveResult> {
 				rmSync(dir, { recursive: true, force: true });
 			}
 			await restoreWrites(dst, schema);
+			// The second lock (row-level security keyed per shop, migrations 20261231…): the target
+			// must know the shop's key, or its tables open to no one.
+			await dst.transaction((trx) => keyShopSchema(trx, schema));
 			await step('restored', `${schema} on "${to}", with the shop's role and its grants`);
 
 			rows = await verify(src, dst, schema, tables);
