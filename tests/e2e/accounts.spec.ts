@@ -129,7 +129,8 @@ test('sign-up creates a shop with its owner; bad input names the field and chang
 	await expect(page.getByRole('alert')).toContainText('not the password you chose');
 	await page.getByLabel('Password').fill('founders-pass-7');
 	await page.getByRole('button', { name: 'Start the shop' }).click();
-	await expect(page).toHaveURL(/\/shops\/founders-mill-works$/);
+	// Provisioning the shop's schema takes a few seconds on a busy machine.
+	await expect(page).toHaveURL(/\/shops\/founders-mill-works$/, { timeout: 30_000 });
 	await expect(page.getByTestId('shop-switcher')).toContainText('Founders Mill Works');
 	await page.getByRole('link', { name: 'Audit log' }).click();
 	await expect(page.getByTestId('audit-table')).toContainText('Shop created');
@@ -179,6 +180,33 @@ test('sign-up answers the same page for an e-mail with an account and a new one'
 	expect(toKnown.length).toBe(knownMailsBefore + 1);
 	expect(toKnown[0].subject).toBe('Someone tried to start a shop with your e-mail address');
 	expect(await signUpLink(fresh)).toMatch(/^\/signup\/confirm\//);
+});
+
+test('sign-up is limited per e-mail: the sixth in an hour is refused and says when to try again', async ({
+	playwright
+}) => {
+	const email = `limit-${Date.now()}@example.test`;
+	const ctx = await playwright.request.newContext({
+		baseURL,
+		extraHTTPHeaders: { Origin: baseURL }
+	});
+	const post = (i: number) =>
+		ctx.post('/signup', {
+			form: {
+				name: 'Lim Ited',
+				email,
+				password: 'limited-pass-1',
+				shopName: `Limited Works ${i}`
+			},
+			headers: { accept: 'text/html' },
+			maxRedirects: 0
+		});
+	for (let i = 0; i < 5; i++) expect((await post(i)).status()).toBe(200);
+	const refused = await post(5);
+	expect(refused.status()).toBe(429);
+	expect(await refused.text()).toMatch(/Too many sign-ups .* Try again at \d\d:\d\d UTC/);
+	expect(await mailsTo(email)).toHaveLength(5);
+	await ctx.dispose();
 });
 
 test('password reset from the e-mailed link; the same answer for an unknown e-mail', async ({

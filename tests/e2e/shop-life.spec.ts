@@ -38,7 +38,8 @@ async function signUp(page: Page, name: string, email: string, shopName: string)
 	await page.goto(await signUpLink(email));
 	await page.getByLabel('Password').fill(PASSWORD);
 	await page.getByRole('button', { name: 'Start the shop' }).click();
-	await expect(page).toHaveURL(/\/shops\/[a-z0-9-]+$/);
+	// Provisioning the shop's schema takes a few seconds on a busy machine.
+	await expect(page).toHaveURL(/\/shops\/[a-z0-9-]+$/, { timeout: 30_000 });
 	return new URL(page.url()).pathname.split('/').pop()!;
 }
 

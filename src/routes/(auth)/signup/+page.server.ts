@@ -24,7 +24,7 @@ export type SignUpMessage =
  * the form cannot flood someone's inbox. Neither depends on whether the e-mail has an account.
  */
 const LIMITS = {
-	address: { max: 20, windowSeconds: 3600 },
+	address: { max: 30, windowSeconds: 3600 },
 	email: { max: 5, windowSeconds: 3600 }
 };
 
