@@ -5,7 +5,8 @@ import type { Knex } from 'knex';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { config } from '$lib/server/config';
 import { closeDb, createDb } from '$lib/server/db';
-import { shopRoleName } from '$lib/server/db/roles';
+import { migratePublic } from '$lib/server/db/migrate';
+import { OWNER_ROLE, shopRoleName } from '$lib/server/db/roles';
 import { closeServers, SHOP_MOVING_MESSAGE } from '$lib/server/db/servers';
 import { withShop, type ShopRef } from '$lib/server/db/tenant';
 import { requireMember } from '$lib/server/guard';
@@ -90,7 +91,9 @@ beforeAll(async () => {
 	delete env.DATABASE_SERVERS;
 	delete env.DATABASE_APP_URL;
 	await run('node_modules/.bin/tsx', ['scripts/db-roles.ts'], { env });
-	await run('node_modules/.bin/tsx', ['scripts/migrate.ts'], { env });
+	// (npm run migrate's first half, in-process: B holds no shop yet.)
+	const owner = createDb(second.url(B_DATABASE), { role: OWNER_ROLE });
+	await migratePublic(owner).finally(() => owner.destroy());
 	b = createDb(second.url(B_DATABASE));
 	// "down": a configured server nobody answers on (a loopback port the kernel just gave out
 	// and took back, so never another program's server).
@@ -207,6 +210,10 @@ describe('npm run shop:move', () => {
 						app
 					)
 				).rejects.toThrow(SHOP_MOVING_MESSAGE);
+				// A second run of the same move meanwhile is refused and changes nothing.
+				await expect(moveShop({ slug: slugOf(moving), to: 'b', home, adminUrl })).rejects.toThrow(
+					/already being moved by another run/
+				);
 				// Other shops carry on.
 				expect(await writableByApp(bystander)).toBe(true);
 			}

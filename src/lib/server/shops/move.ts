@@ -165,6 +165,18 @@ export async function moveShop(o: MoveOptions): Promise<MoveResult> {
 	const to = o.to;
 	const base = { shopId, schema, from, to };
 
+	// One move of a shop at a time: a transaction-scoped advisory lock held at home for the
+	// whole run (ended by commit below, or by PostgreSQL if this process dies).
+	const claim = await o.home.transaction();
+	const { rows: got } = await claim.raw('select pg_try_advisory_xact_lock(hashtext(?), ?) as ok', [
+		'datumkeep shop:move',
+		shopId
+	]);
+	if (!got[0].ok) {
+		await claim.rollback();
+		throw new MoveError(`shop "${o.slug}" is already being moved by another run`);
+	}
+
 	const pools: Knex[] = [];
 	const connect = (server: string): Knex => {
 		if (server === HOME_SERVER) return o.home;
@@ -299,6 +311,7 @@ export async function moveShop(o: MoveOptions): Promise<MoveResult> {
 		return { outcome: 'moved', ...base, keptAs, rows };
 	} finally {
 		await Promise.all(pools.map((k) => k.destroy()));
+		await claim.commit().catch(() => {});
 	}
 }
 
