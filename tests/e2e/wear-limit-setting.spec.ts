@@ -29,7 +29,8 @@ async function signUp(page: Page, name: string, email: string, shopName: string)
 	await page.getByLabel('Password').fill(PASSWORD);
 	await page.getByLabel('Shop name').fill(shopName);
 	await page.getByRole('button', { name: 'Create the shop' }).click();
-	await expect(page).toHaveURL(/\/shops\/[a-z0-9-]+$/);
+	// Provisioning a shop takes a few seconds on a busy machine.
+	await expect(page).toHaveURL(/\/shops\/[a-z0-9-]+$/, { timeout: 30_000 });
 	return new URL(page.url()).pathname.split('/').pop()!;
 }
 
