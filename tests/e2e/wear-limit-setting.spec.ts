@@ -29,7 +29,8 @@ async function signUp(page: Page, name: string, email: string, shopName: string)
 	await page.getByLabel('Password').fill(PASSWORD);
 	await page.getByLabel('Shop name').fill(shopName);
 	await page.getByRole('button', { name: 'Create the shop' }).click();
-	await expect(page).toHaveURL(/\/shops\/[a-z0-9-]+$/);
+	// Provisioning a shop takes a few seconds on a busy machine.
+	await expect(page).toHaveURL(/\/shops\/[a-z0-9-]+$/, { timeout: 30_000 });
 	return new URL(page.url()).pathname.split('/').pop()!;
 }
 
@@ -86,4 +87,91 @@ test('the owner sets the wear limit in the shop units; bad input is refused and 
 	expect(body.status ?? res.status()).toBe(403);
 	expect(Number(await stored())).toBe(0.127);
 	await op.dispose();
+});
+
+test('a saved offset file holding a different G54 X and H3 radius wear is reported on the read-back page', async ({
+	page
+}) => {
+	// Forms read: G10 L2 X/Y (NIST RS274NGC v3 §3.5.5); ISO-style G10 L10/L13 (ISO-style mill
+	// programming manual §1.2.10, SOURCES.md 3). Values invented.
+	const s = stamp();
+	const slug = await signUp(page, 'Rhea Back', `rb-${s}@example.test`, `Readback Works ${s}`);
+	const { schema_name: schema } = await sql('shops').where({ slug }).first('schema_name');
+	const db = () => sql.withSchema(schema);
+	const [m] = await db()
+		.table('machines')
+		.insert({
+			name: 'RB Mill',
+			units: 'inch',
+			z_travel: 20,
+			resolution: 0.0001,
+			control_style: 'iso'
+		})
+		.returning('id');
+	const [t] = await db()
+		.table('tools')
+		.insert({ machine_id: m.id, t_number: 3, h_number: 3, description: 'end mill' })
+		.returning('id');
+	expect(Number(t.id)).toBeGreaterThan(0);
+	const base = {
+		machine_id: m.id,
+		units: 'inch',
+		convention: 'reference-touch',
+		reference_version: 1
+	};
+	await db()
+		.table('offset_versions')
+		.insert([
+			{ ...base, register_kind: 'work', register: 'G54', value: 1.25 },
+			{ ...base, register_kind: 'work', register: 'G55', value: 2.5 },
+			{ ...base, register_kind: 'tool', register: '3', value: -13.6182 }
+		]);
+	const comp = { machine_id: m.id, units: 'inch', source: 'entered' };
+	await db()
+		.table('offset_component_versions')
+		.insert([
+			{ ...comp, register_kind: 'work', register: 'G54', component: 'x', value: -12.3 },
+			{ ...comp, register_kind: 'work', register: 'G55', component: 'x', value: -6.3 },
+			{
+				...comp,
+				register_kind: 'tool',
+				register: '3',
+				component: 'radius-wear',
+				value: -0.001,
+				cutter_register: 'radius'
+			}
+		]);
+	const file = [
+		'%',
+		'G20',
+		'G10 L2 P1 X-6.3000 Y0. Z1.2500',
+		'G10 L2 P2 X-6.3000 Y0. Z2.5000',
+		'G10 L10 P3 R-13.6182',
+		'G10 L13 P3 R0.0010',
+		'%'
+	].join('\n');
+	await page.goto(`/shops/${slug}/machines/${m.id}/readback`);
+	await page.locator('input[name="file"]').setInputFiles({
+		name: 'offsets.nc',
+		mimeType: 'text/plain',
+		buffer: Buffer.from(file)
+	});
+	await page.getByRole('button', { name: 'Upload and compare' }).click();
+	const result = page.getByTestId('readback-result');
+	const x = result.locator('[data-testid="readback-row"][data-register="G54 X"]');
+	await expect(x).toHaveAttribute('data-status', 'different');
+	await expect(x.locator('[data-cause="off-by-one"]')).toContainText('G55 X');
+	await expect(
+		result.locator('[data-testid="readback-row"][data-register="H3 radius wear"]')
+	).toHaveAttribute('data-status', 'different');
+	await expect(
+		result.locator('[data-testid="readback-row"][data-register="G55 X"]')
+	).toHaveAttribute('data-status', 'equal');
+	await page.screenshot({ path: '.data/test/readback-components.png', fullPage: true });
+	// Each difference is a Stop finding on that component (findings page, board, digest).
+	const open = await db()
+		.table('findings')
+		.where({ kind: 'readback-mismatch', status: 'open' })
+		.pluck('subject');
+	expect(open.sort()).toEqual(['G54 X', 'H3 radius wear']);
 });

@@ -41,7 +41,13 @@ export const actions: Actions = {
 	default: async (event) => {
 		const { shop, user } = await requireMember(event, 'settings.write');
 		const form = await superValidate(event.request, zod4(shopSettingsSchema));
-		if (!form.valid) return fail(400, { form });
+		if (!form.valid) {
+			// A refused form comes back with the text as posted; the hour list matches numbers,
+			// so the hour goes back as one (else the list would show no hour and post none).
+			const hour = Number(form.data.checkHour);
+			if (Number.isInteger(hour)) form.data.checkHour = hour;
+			return fail(400, { form });
+		}
 		const { changed, settings } = await saveSettings(
 			db(),
 			shop,
