@@ -164,6 +164,6 @@ describe('component findings in the shop check', () => {
 			knex
 		);
 		expect(resolved.status).toBe('resolved');
-		expect(resolved.comment).toMatch(/resolved by the new H3 length wear/);
+		expect(resolved.comment).toMatch(/resolved by the new value of H3 length wear/);
 	});
 });
