@@ -19,6 +19,7 @@ import * as m1302 from './20261213090100_create_shop_provisioning_functions';
 import * as m2201 from './20261222090000_create_shop_drop_function';
 import * as m3001 from './20261230090000_create_pending_signups';
 import * as m3101 from './20261231090000_create_shop_keys';
+import * as m3102 from './20261231090100_shop_drop_needs_key';
 import * as m270101 from './20270102000100_create_shop_servers';
 import * as m270301 from './20270103090000_add_wear_limit_to_shops';
 
@@ -48,6 +49,7 @@ export const publicMigrations: Record<string, Knex.Migration> = {
 	'20261222090000_create_shop_drop_function': m2201,
 	'20261230090000_create_pending_signups': m3001,
 	'20261231090000_create_shop_keys': m3101,
+	'20261231090100_shop_drop_needs_key': m3102,
 	'20270102000100_create_shop_servers': m270101,
 	'20270103090000_add_wear_limit_to_shops': m270301
 };

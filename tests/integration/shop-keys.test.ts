@@ -139,6 +139,40 @@ describe("another shop's role, taken by SQL inside one shop's transaction", () =
 		).rejects.toThrow(/already exists/);
 	});
 
+	it("marking B due for purge and calling the drop function cannot drop B without B's token", async () => {
+		// The app role may write public.shops (deletion requests do), so injected SQL can make B
+		// look due; the drop function then still wants B's token, which it cannot make.
+		const { purge_after } = await admin('public.shops')
+			.where({ id: shopB.id })
+			.first('purge_after');
+		await app('public.shops')
+			.where({ id: shopB.id })
+			.update({ purge_after: new Date(Date.now() - 60_000) });
+		try {
+			for (const token of ['x'.repeat(64), '', null])
+				await expect(
+					app.raw('select public.dk_drop_shop_schema(?, ?)', [shopB.schemaName, token])
+				).rejects.toThrow(/does not open/);
+			// A's token does not open B either (as A's transaction would have it).
+			const tokenA = await inA(
+				async (trx) =>
+					(await trx.raw("select current_setting('datumkeep.shop_token') as t")).rows[0].t
+			);
+			await expect(
+				app.raw('select public.dk_drop_shop_schema(?, ?)', [shopB.schemaName, tokenA])
+			).rejects.toThrow(/does not open/);
+			// The one-argument form that needed no token is gone.
+			await expect(
+				app.raw('select public.dk_drop_shop_schema(?)', [shopB.schemaName])
+			).rejects.toThrow(/does not exist/);
+		} finally {
+			await admin('public.shops').where({ id: shopB.id }).update({ purge_after });
+		}
+		expect(await withShop(shopB, (trx) => trx('machines').pluck('name'), app)).toEqual([
+			'Keys secret mill'
+		]);
+	});
+
 	it("shop A's own work goes on, and B's data is untouched", async () => {
 		await inA((trx) => trx('machines').insert({ ...probeMachine, name: 'Keys A mill' }));
 		expect(await inA((trx) => trx('machines').pluck('name'))).toEqual(['Keys A mill']);

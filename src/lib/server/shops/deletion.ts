@@ -21,6 +21,7 @@ import { getShopBilling } from '../billing/state';
 import { stripe } from '../billing/stripe';
 import { config } from '../config';
 import { assertShopSchema } from '../db/schema-name';
+import { requireShopToken } from '../db/shop-token';
 import { enterShop } from '../db/roles';
 import type { ShopRef } from '../db/tenant';
 import { renderEmail } from '../email/layout';
@@ -198,8 +199,12 @@ export async function purgeShop(
 			.join('public.users as u', 'u.id', 'm.user_id')
 			.where('m.shop_id', shopId)
 			.select('u.id', 'u.email', 'u.name', 'm.role');
-		// The schema belongs to the owner role: a definer function drops it, only for a shop due.
-		await trx.raw('select public.dk_drop_shop_schema(?)', [shop.schema_name]);
+		// The schema belongs to the owner role: a definer function drops it, only for a shop due
+		// and only with the shop's token (which SQL injected as the app role cannot make).
+		await trx.raw('select public.dk_drop_shop_schema(?, ?)', [
+			shop.schema_name,
+			requireShopToken(shop.schema_name)
+		]);
 		await trx('public.memberships').where({ shop_id: shopId }).del();
 		await trx('public.invitations').where({ shop_id: shopId }).del();
 		// No schema name: the shop is gone for every part that lists shops (e.g. nightly checks).

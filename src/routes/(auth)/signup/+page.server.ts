@@ -3,6 +3,7 @@ import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { SLUG_RULE, signUpSchema, slugify } from '$lib/schemas/auth';
 import { clientAddress } from '$lib/server/auth/client-address';
+import { config } from '$lib/server/config';
 import { hit } from '$lib/server/auth/rate-limit';
 import { requestSignUp } from '$lib/server/auth/signup';
 import { db } from '$lib/server/db';
@@ -12,7 +13,13 @@ import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ locals }) => {
 	if (locals.user) redirect(303, '/shops/new');
-	return { form: await superValidate(zod4(signUpSchema)) };
+	// Local demo only (the app sends through the loopback fake SES, never real SES): where the
+	// link can be read, since a newcomer has no account for the mailbox page yet.
+	const { endpoint, local } = config.ses;
+	return {
+		form: await superValidate(zod4(signUpSchema)),
+		localMail: local && endpoint ? endpoint : null
+	};
 };
 
 /** What the page says after a sign-up, or why it could not start one. */
