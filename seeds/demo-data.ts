@@ -323,8 +323,9 @@ export const demoShops: DemoShop[] = [
 								'%',
 								'O9000 (OFFSET TABLES SAVED AT THE CONTROL)',
 								'G20',
-								'G10 L2 P1 X0. Y0. Z2.8125',
-								'G10 L2 P2 X0. Y0. Z1.0630',
+								// X/Y as the edge readings above give them (G54 one edge each, G55 a bore centre).
+								'G10 L2 P1 X-12.3 Y-7.1 Z2.8125',
+								'G10 L2 P2 X-4.75 Y-7.65 Z1.0630',
 								'G10 L10 P1 R-15.8421',
 								'G10 L10 P2 R-14.7502',
 								'G10 L10 P3 R-13.9877',
