@@ -106,6 +106,25 @@ for (const vp of [
 	});
 }
 
+test("the owner's pages fit a phone too (members, settings, billing, audit log, tool library)", async ({
+	page
+}) => {
+	test.setTimeout(120_000);
+	await page.setViewportSize({ width: 390, height: 844 });
+	await signIn(page, FERNHILL.owner);
+	const wide: string[] = [];
+	for (const path of ['members', 'settings', 'billing', 'audit', 'tool-library']) {
+		await page.goto(`${SHOP}/${path}`);
+		await page.waitForLoadState('networkidle');
+		const w = await page.evaluate(() => [
+			document.documentElement.scrollWidth,
+			document.documentElement.clientWidth
+		]);
+		if (w[0] > w[1]) wide.push(`${path}: page ${w[0]} px wide in ${w[1]}`);
+	}
+	expect(wide).toEqual([]);
+});
+
 test('machine length fields open the decimal keypad, with a ± key beside machine Z', async ({
 	page
 }) => {
