@@ -1,4 +1,4 @@
-import { request, type APIRequestContext } from '@playwright/test';
+import { expect, request, type APIRequestContext, type Page } from '@playwright/test';
 
 export const DEMO_PASSWORD = 'datumkeep-demo';
 export const baseURL = `http://127.0.0.1:${process.env.PORT ?? 4173}`;
@@ -48,4 +48,30 @@ export async function signUpLink(address: string): Promise<string> {
 		await new Promise((r) => setTimeout(r, 100));
 	}
 	throw new Error(`no sign-up link was mailed to ${address}`);
+}
+
+/**
+ * A stranger signs up through the form and finishes from the e-mailed link with the password
+ * chosen; answers the new shop's slug.
+ */
+export async function signUpThroughForm(
+	page: Page,
+	name: string,
+	email: string,
+	shopName: string,
+	password: string
+): Promise<string> {
+	await page.goto('/signup');
+	await page.getByLabel('Your name').fill(name);
+	await page.getByLabel('E-mail').fill(email);
+	await page.getByLabel('Password').fill(password);
+	await page.getByLabel('Shop name').fill(shopName);
+	await page.getByRole('button', { name: 'Create the shop' }).click();
+	await expect(page.getByTestId('signup-sent')).toContainText(email);
+	await page.goto(await signUpLink(email));
+	await page.getByLabel('Password').fill(password);
+	await page.getByRole('button', { name: 'Start the shop' }).click();
+	// Provisioning the shop's schema takes a few seconds on a busy machine.
+	await expect(page).toHaveURL(/\/shops\/[a-z0-9-]+$/, { timeout: 30_000 });
+	return new URL(page.url()).pathname.split('/').pop()!;
 }

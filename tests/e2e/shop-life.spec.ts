@@ -4,7 +4,7 @@ import { parse } from 'csv-parse/sync';
 import yauzl from 'yauzl';
 import { hashPassword } from '../../src/lib/server/auth/password';
 import { formatWhen } from '../../src/lib/time';
-import { mailsTo, signUpLink } from './helpers';
+import { mailsTo, signUpThroughForm } from './helpers';
 
 /**
  * A shop's whole life: a stranger signs up and follows the first steps to a first
@@ -25,23 +25,9 @@ test.afterAll(async () => {
 const PASSWORD = 'shop-life-pass-7';
 const stamp = () => `${Date.now().toString(36)}${Math.floor(Math.random() * 1e4)}`;
 
-/** A stranger signs up through the form; answers the new shop's slug. */
-async function signUp(page: Page, name: string, email: string, shopName: string): Promise<string> {
-	await page.goto('/signup');
-	await page.getByLabel('Your name').fill(name);
-	await page.getByLabel('E-mail').fill(email);
-	await page.getByLabel('Password').fill(PASSWORD);
-	await page.getByLabel('Shop name').fill(shopName);
-	await page.getByRole('button', { name: 'Create the shop' }).click();
-	await expect(page.getByTestId('signup-sent')).toContainText(email);
-	// The shop is made from the e-mailed link, with the password chosen.
-	await page.goto(await signUpLink(email));
-	await page.getByLabel('Password').fill(PASSWORD);
-	await page.getByRole('button', { name: 'Start the shop' }).click();
-	// Provisioning the shop's schema takes a few seconds on a busy machine.
-	await expect(page).toHaveURL(/\/shops\/[a-z0-9-]+$/, { timeout: 30_000 });
-	return new URL(page.url()).pathname.split('/').pop()!;
-}
+/** A stranger signs up through the form (and the e-mailed link); answers the shop's slug. */
+const signUp = (page: Page, name: string, email: string, shopName: string) =>
+	signUpThroughForm(page, name, email, shopName, PASSWORD);
 
 async function signIn(page: Page, email: string, password = PASSWORD) {
 	await page.goto('/signin');

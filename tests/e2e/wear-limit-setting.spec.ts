@@ -1,7 +1,7 @@
 import { expect, test, type Page } from '@playwright/test';
 import knex, { type Knex } from 'knex';
 import { hashPassword } from '../../src/lib/server/auth/password';
-import { signedInClient, signUpLink } from './helpers';
+import { signedInClient, signUpThroughForm } from './helpers';
 
 /**
  * The shop's wear limit (issue 20) on the settings page: typed in the shop's units, read by the
@@ -22,22 +22,9 @@ test.afterAll(async () => {
 const PASSWORD = 'wear-limit-pass-7';
 const stamp = () => `${Date.now().toString(36)}${Math.floor(Math.random() * 1e4)}`;
 
-async function signUp(page: Page, name: string, email: string, shopName: string): Promise<string> {
-	await page.goto('/signup');
-	await page.getByLabel('Your name').fill(name);
-	await page.getByLabel('E-mail').fill(email);
-	await page.getByLabel('Password').fill(PASSWORD);
-	await page.getByLabel('Shop name').fill(shopName);
-	await page.getByRole('button', { name: 'Create the shop' }).click();
-	await expect(page.getByTestId('signup-sent')).toContainText(email);
-	// The shop is made from the e-mailed link, with the password chosen.
-	await page.goto(await signUpLink(email));
-	await page.getByLabel('Password').fill(PASSWORD);
-	await page.getByRole('button', { name: 'Start the shop' }).click();
-	// Provisioning a shop takes a few seconds on a busy machine.
-	await expect(page).toHaveURL(/\/shops\/[a-z0-9-]+$/, { timeout: 30_000 });
-	return new URL(page.url()).pathname.split('/').pop()!;
-}
+/** A stranger signs up through the form (and the e-mailed link); answers the shop's slug. */
+const signUp = (page: Page, name: string, email: string, shopName: string) =>
+	signUpThroughForm(page, name, email, shopName, PASSWORD);
 
 test('the owner sets the wear limit in the shop units; bad input is refused and changes nothing; an operator cannot change it', async ({
 	page
