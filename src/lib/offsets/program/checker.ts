@@ -12,7 +12,7 @@ import { FindingCollector } from './collector';
 import { resolveContext, type CheckContext } from './context';
 import type { Dialect, DialectFrom } from './dialect';
 import { Interpreter } from './interpreter';
-import { LineSplitter, MAX_LINE_CHARS } from './lines';
+import { LineSplitter, MAX_LINE_CHARS, programBytes } from './lines';
 import { say, why } from './messages';
 import { Profile, type ProgramProfile } from './profile';
 import { scanLine } from './scanner';
@@ -82,8 +82,11 @@ export interface ProgramCheckResult {
 
 /** A checker fed a program in pieces. */
 export interface ProgramChecker {
-	/** Feeds the next piece of text; lines may be split anywhere between pieces. */
-	push(chunk: string): void;
+	/**
+	 * Feeds the next piece: bytes as stored (UTF-8 or ASCII) or text; lines may be split
+	 * anywhere between pieces (a UTF-8 character too).
+	 */
+	push(chunk: string | Uint8Array): void;
 	/** Reads the last line and returns the result (the same one if called again). */
 	end(): ProgramCheckResult;
 	/** Lines read so far (for progress). */
@@ -137,13 +140,13 @@ class StreamChecker implements ProgramChecker {
 		return this.run.tally.lines;
 	}
 
-	push(chunk: string): void {
+	push(chunk: string | Uint8Array): void {
 		if (this.result !== null) return;
-		if (typeof chunk !== 'string') {
+		if (typeof chunk !== 'string' && !(chunk instanceof Uint8Array)) {
 			this.notText();
 			return;
 		}
-		this.split.push(chunk);
+		this.split.push(programBytes(chunk));
 	}
 
 	end(): ProgramCheckResult {
@@ -162,7 +165,7 @@ class StreamChecker implements ProgramChecker {
 	}
 
 	/** One physical line (called by the splitter). */
-	line(text: string, start: number, end: number, long: boolean): void {
+	line(text: Uint8Array, start: number, end: number, long: boolean): void {
 		const lineNo = ++this.run.tally.lines;
 		if (this.collecting) {
 			this.structure.line(text, start, end, lineNo);
@@ -189,8 +192,8 @@ class StreamChecker implements ProgramChecker {
 	}
 
 	/** Runs one line of the main program or of a called body. */
-	private block1(text: string, start: number, end: number, lineNo: number): void {
-		const c = text.charCodeAt(start);
+	private block1(text: Uint8Array, start: number, end: number, lineNo: number): void {
+		const c = text[start];
 		const ol =
 			c === 79 || c === 111 || c === 32 || c === 9 || c === 58 ? readOLine(text, start, end) : null;
 		if (ol !== null && ol.kind !== OKind.Number) {
@@ -364,14 +367,16 @@ export function createProgramChecker(
  */
 export function checkProgram(text: string, setup: ProgramSetup): ProgramCheckResult {
 	const ctx = resolveContext(setup);
+	// Encoded once (not per pass): the checker reads bytes.
+	const bytes = typeof text === 'string' ? programBytes(text) : (text as unknown as Uint8Array);
 	const first = new StreamChecker(ctx, undefined, true);
-	first.push(typeof text === 'string' ? text : (text as unknown as string));
+	first.push(bytes);
 	const result = first.end();
 	// A call came before its body (ISO-style subprograms after M30): once more, knowing them.
 	const library = first.laterSubprograms();
 	if (library === null) return result;
 	const second = new StreamChecker(ctx, library);
-	second.push(text);
+	second.push(bytes);
 	return second.end();
 }
 
@@ -381,7 +386,7 @@ export function checkProgram(text: string, setup: ProgramSetup): ProgramCheckRes
  * @throws OffsetInputError when the setup cannot be used (never for the program text)
  */
 export async function checkProgramStream(
-	read: () => AsyncIterable<string>,
+	read: () => AsyncIterable<string | Uint8Array>,
 	setup: ProgramSetup,
 	onProgress?: (lines: number, pass: 1 | 2) => Promise<void> | void
 ): Promise<ProgramCheckResult> {

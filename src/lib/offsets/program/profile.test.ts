@@ -1,6 +1,7 @@
 import { describe, expect, test } from 'vitest';
 import { checkProgram, checkProgramStream, createProgramChecker } from './checker';
 import { BUCKETS, Profile } from './profile';
+import { programBytes as bytes } from './lines';
 import { OKind, readOLine } from './structure';
 import { CLEAN, PUMP, program } from './test-data';
 
@@ -43,12 +44,12 @@ describe('the picture of tip heights (Profile)', () => {
 
 describe('structure', () => {
 	test('O lines: numbers, o-subs, calls and flow', () => {
-		expect(readOLine('O0100 (POCKET)', 0, 14)).toEqual({ kind: OKind.Number, name: '100' });
-		expect(readOLine(':2000', 0, 5)).toEqual({ kind: OKind.Number, name: '2000' });
-		expect(readOLine('o<Face> sub', 0, 11)).toEqual({ kind: OKind.Sub, name: '<face>' });
-		expect(readOLine('  o100 call [1] [2]', 0, 19)).toEqual({ kind: OKind.Call, name: '100' });
-		expect(readOLine('o10 if [#1 GT 0]', 0, 16)?.kind).toBe(OKind.Flow);
-		expect(readOLine('G0 X1.', 0, 6)).toBeNull();
+		expect(readOLine(bytes('O0100 (POCKET)'), 0, 14)).toEqual({ kind: OKind.Number, name: '100' });
+		expect(readOLine(bytes(':2000'), 0, 5)).toEqual({ kind: OKind.Number, name: '2000' });
+		expect(readOLine(bytes('o<Face> sub'), 0, 11)).toEqual({ kind: OKind.Sub, name: '<face>' });
+		expect(readOLine(bytes('  o100 call [1] [2]'), 0, 19)).toEqual({ kind: OKind.Call, name: '100' });
+		expect(readOLine(bytes('o10 if [#1 GT 0]'), 0, 16)?.kind).toBe(OKind.Flow);
+		expect(readOLine(bytes('G0 X1.'), 0, 6)).toBeNull();
 	});
 
 	test('a streamed check knows a later body only on a second pass (checkProgramStream)', async () => {

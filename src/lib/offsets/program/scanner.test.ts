@@ -1,10 +1,12 @@
 import { describe, expect, test } from 'vitest';
 import { ABSENT, Block, L, NUMBER, ScanProblem, UNKNOWN, Unmodelled } from './block';
+import { programBytes } from './lines';
 import { scanLine } from './scanner';
 
 function scan(text: string): Block {
 	const b = new Block();
-	scanLine(text, 0, text.length, b);
+	const bytes = programBytes(text);
+	scanLine(bytes, 0, bytes.length, b);
 	return b;
 }
 
@@ -78,7 +80,10 @@ describe('scanLine: word-address format (ISO 6983-1 [memory]; NISTIR 6556 §3.3)
 			['G0 X1. X2.', ScanProblem.Duplicate, 'X', 8],
 			['G0 X1. = 2', ScanProblem.BadChar, '=', 8],
 			['G0\u0000X1.', ScanProblem.Binary, '\u0000', 3],
-			['G0 X1.é', ScanProblem.Binary, 'é', 7]
+			['G0 X1.é', ScanProblem.Binary, 'é', 7],
+			// Columns count characters, not UTF-8 bytes: "ø" and "°" in the comment are one each.
+			['G0 (Ø10 MILL 90°) X1. = 2', ScanProblem.BadChar, '=', 23],
+			['G0 X1.\uFEFF', ScanProblem.BadChar, '\uFEFF', 7]
 		];
 		for (const [text, kind, char, col] of cases) {
 			const b = scan(text);
@@ -90,6 +95,20 @@ describe('scanLine: word-address format (ISO 6983-1 [memory]; NISTIR 6556 §3.3)
 		}
 	});
 
+	test('a character outside the BMP and bytes that are not UTF-8 are named, not misread', () => {
+		const wrench = scan('G0 X1.\u{1F527}');
+		expect([wrench.problem, wrench.problemChar, wrench.problemCol]).toEqual([ScanProblem.Binary, 0x1f527, 7]);
+		// A Windows-1252 "°" (one byte B0) inside no comment: not UTF-8, named as U+FFFD.
+		const b = new Block();
+		const raw = Uint8Array.from([0x58, 0x31, 0x20, 0xb0]);
+		scanLine(raw, 0, raw.length, b);
+		expect([b.problem, b.problemChar, b.problemCol]).toEqual([ScanProblem.Binary, 0xfffd, 4]);
+		// A UTF-8 character cut off by the line's end.
+		const cut = Uint8Array.from([0x58, 0x31, 0xc3]);
+		scanLine(cut, 0, cut.length, b);
+		expect([b.problem, b.problemChar, b.problemCol]).toEqual([ScanProblem.Binary, 0xfffd, 3]);
+	});
+
 	test('a huge number is refused rather than read as Infinity', () => {
 		expect(scan(`X${'9'.repeat(400)}`).problem).toBe(ScanProblem.BadNumber);
 		expect(scan(`X${'1'.repeat(20)}`).val[L.X] / 1.1111111111111111e19).toBeCloseTo(1, 12);
@@ -97,7 +116,7 @@ describe('scanLine: word-address format (ISO 6983-1 [memory]; NISTIR 6556 §3.3)
 	});
 
 	test('reads only [start, end) of a longer string and resets between lines', () => {
-		const text = 'G0 X1.\nG1 Z-2.';
+		const text = programBytes('G0 X1.\nG1 Z-2.');
 		const b = new Block();
 		scanLine(text, 7, text.length, b);
 		expect(b.has[L.X]).toBe(ABSENT);

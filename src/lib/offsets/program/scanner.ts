@@ -1,6 +1,7 @@
 /**
- * Reads one line of an RS274/ISO 6983-style word-address program into a Block, by character
- * codes only: no regular expressions, no substrings, nothing allocated. Word format: a letter,
+ * Reads one line of an RS274/ISO 6983-style word-address program into a Block, byte by byte
+ * (the program as stored, UTF-8 or ASCII: every byte outside a comment that is not ASCII is
+ * refused): no regular expressions, no substrings, nothing allocated. Word format: a letter,
  * optional spaces, an optional sign and a decimal number (ISO 6983-1 [memory]; NIST RS274NGC
  * v3 (NISTIR 6556) §3.3). Comments are "( … )" to the end of the parenthesis or ";" to the end
  * of the line; "/" first on a line is block delete; "%" marks the start or end of the tape.
@@ -13,19 +14,47 @@ for (let i = 0; i <= 17; i++) POW10.push(10 ** i);
 const SPACE = 32;
 const TAB = 9;
 
-function problem(b: Block, kind: ScanProblem, char: number, col: number): void {
+/**
+ * Records the line's problem at byte `at`: its column counts characters, not bytes (a UTF-8
+ * character before it, e.g. in a comment, is one column), as an editor shows it.
+ */
+function problem(
+	b: Block,
+	kind: ScanProblem,
+	char: number,
+	text: Uint8Array,
+	start: number,
+	at: number
+): void {
+	let col = 1;
+	for (let k = start; k < at; k++) if ((text[k] & 0xc0) !== 0x80) col++;
 	b.problem = kind;
 	b.problemChar = char;
 	b.problemCol = col;
+}
+
+/** The character (code point) whose UTF-8 bytes begin at `i`; U+FFFD when they are not UTF-8. */
+export function codePointAt(text: Uint8Array, i: number, end: number): number {
+	const c = text[i];
+	if (c < 0x80) return c;
+	const more = c >= 0xc2 && c < 0xe0 ? 1 : c >= 0xe0 && c < 0xf0 ? 2 : c >= 0xf0 && c < 0xf5 ? 3 : 0;
+	if (more === 0 || i + more >= end) return 0xfffd;
+	let cp = c & (0x3f >> more);
+	for (let k = 1; k <= more; k++) {
+		const d = text[i + k];
+		if ((d & 0xc0) !== 0x80) return 0xfffd;
+		cp = (cp << 6) | (d & 0x3f);
+	}
+	return cp;
 }
 
 /**
  * After a word the scanner could not follow (a parameter, a macro word), X, Y or Z further
  * on may still move the machine: mark them unknown so no height is trusted on this line.
  */
-function markRestUnknown(text: string, from: number, end: number, b: Block): void {
+function markRestUnknown(text: Uint8Array, from: number, end: number, b: Block): void {
 	for (let i = from; i < end; i++) {
-		const u = text.charCodeAt(i) | 32;
+		const u = text[i] | 32;
 		const letter = u - 97;
 		if ((letter === L.X || letter === L.Y || letter === L.Z) && b.has[letter] === ABSENT)
 			b.mark(letter, UNKNOWN);
@@ -69,27 +98,27 @@ const MACRO_WORDS = new Set([
 ]);
 
 /** True when text[from, to) (letters, any case) is a macro word; allocates only for runs ≤ 9. */
-function isMacroWord(text: string, from: number, to: number): boolean {
+function isMacroWord(text: Uint8Array, from: number, to: number): boolean {
 	if (to - from > 9) return false;
 	// "END1", "DO2", "GOTO10": the run stops at the digit already.
-	return MACRO_WORDS.has(text.slice(from, to).toUpperCase());
+	return MACRO_WORDS.has(String.fromCharCode(...text.subarray(from, to)).toUpperCase());
 }
 
 /** Reads text[start, end) (one line, no line break) into `b`. Never throws. */
-export function scanLine(text: string, start: number, end: number, b: Block): void {
+export function scanLine(text: Uint8Array, start: number, end: number, b: Block): void {
 	b.reset();
 	let i = start;
 	while (i < end) {
-		const c = text.charCodeAt(i);
+		const c = text[i];
 		if (c !== SPACE && c !== TAB) break;
 		i++;
 	}
-	if (i < end && text.charCodeAt(i) === 47) {
+	if (i < end && text[i] === 47) {
 		b.blockDelete = true;
 		i++;
 	}
 	while (i < end) {
-		const c = text.charCodeAt(i);
+		const c = text[i];
 		if (c === SPACE || c === TAB) {
 			i++;
 			continue;
@@ -97,9 +126,9 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 		const letter = (c | 32) - 97;
 		if (letter >= 0 && letter < 26 && c >= 65) {
 			let j = i + 1;
-			let d = j < end ? text.charCodeAt(j) : -1;
-			while (d === SPACE || d === TAB) d = ++j < end ? text.charCodeAt(j) : -1;
-			if (j >= end) return problem(b, ScanProblem.NoNumber, c, i - start + 1);
+			let d = j < end ? text[j] : -1;
+			while (d === SPACE || d === TAB) d = ++j < end ? text[j] : -1;
+			if (j >= end) return problem(b, ScanProblem.NoNumber, c, text, start, i);
 			if (d === 35 || d === 91) {
 				// "#" or "[": a parameter or expression (NISTIR 6556 §3.3.2); value unknown here.
 				b.words++;
@@ -115,7 +144,7 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 				// o100 sub) or a typo the control refuses ("GOO" with the letter O for zero).
 				let k = j;
 				while (k < end) {
-					const e = text.charCodeAt(k) | 32;
+					const e = text[k] | 32;
 					if (e < 97 || e > 122) break;
 					k++;
 				}
@@ -126,10 +155,10 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 					return;
 				}
 				const oh = (d | 32) === 111;
-				return problem(b, oh ? ScanProblem.LetterO : ScanProblem.Letters, c, i - start + 1);
+				return problem(b, oh ? ScanProblem.LetterO : ScanProblem.Letters, c, text, start, i);
 			}
-			if (dl === 14 && letter !== L.O) return problem(b, ScanProblem.LetterO, c, i - start + 1);
-			if (dl >= 0 && dl < 26 && d >= 65) return problem(b, ScanProblem.NoNumber, c, i - start + 1);
+			if (dl === 14 && letter !== L.O) return problem(b, ScanProblem.LetterO, c, text, start, i);
+			if (dl >= 0 && dl < 26 && d >= 65) return problem(b, ScanProblem.NoNumber, c, text, start, i);
 			let k = j;
 			let negative = false;
 			if (d === 45) {
@@ -144,14 +173,14 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 			let places = 0;
 			let extra = 0;
 			let e = 0;
-			while (k < end && (e = text.charCodeAt(k) - 48) >= 0 && e <= 9 && digits < 9) {
+			while (k < end && (e = text[k] - 48) >= 0 && e <= 9 && digits < 9) {
 				small = small * 10 + e;
 				digits++;
 				k++;
 			}
 			let mantissa = small;
 			if (digits === 9) {
-				while (k < end && (e = text.charCodeAt(k) - 48) >= 0 && e <= 9) {
+				while (k < end && (e = text[k] - 48) >= 0 && e <= 9) {
 					if (mantissa < 1e16) mantissa = mantissa * 10 + e;
 					else extra++;
 					digits++;
@@ -161,7 +190,7 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 			if (k < end && e === -2) {
 				// One "." then the decimals.
 				k++;
-				while (k < end && (e = text.charCodeAt(k) - 48) >= 0 && e <= 9 && digits < 9) {
+				while (k < end && (e = text[k] - 48) >= 0 && e <= 9 && digits < 9) {
 					small = small * 10 + e;
 					places++;
 					digits++;
@@ -169,7 +198,7 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 				}
 				if (places > 0) mantissa = small;
 				if (digits >= 9) {
-					while (k < end && (e = text.charCodeAt(k) - 48) >= 0 && e <= 9) {
+					while (k < end && (e = text[k] - 48) >= 0 && e <= 9) {
 						if (mantissa < 1e16) {
 							mantissa = mantissa * 10 + e;
 							places++;
@@ -179,20 +208,20 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 					}
 				}
 			}
-			if (digits === 0) return problem(b, ScanProblem.NoNumber, c, i - start + 1);
+			if (digits === 0) return problem(b, ScanProblem.NoNumber, c, text, start, i);
 			let value = places === 0 ? mantissa : mantissa / POW10[places];
 			if (extra > 0) {
 				value *= 10 ** extra;
-				if (!Number.isFinite(value)) return problem(b, ScanProblem.BadNumber, c, i - start + 1);
+				if (!Number.isFinite(value)) return problem(b, ScanProblem.BadNumber, c, text, start, i);
 			}
 			if (negative) value = -value;
 			b.words++;
 			if (letter === L.G || letter === L.M) {
 				if (!b.addCode(letter, Math.round(value * 10)))
-					return problem(b, ScanProblem.TooManyCodes, c, i - start + 1);
+					return problem(b, ScanProblem.TooManyCodes, c, text, start, i);
 			} else if (letter !== L.N) {
 				// N is a sequence number: it names a block and changes nothing (NISTIR 6556 §3.3).
-				if (b.has[letter] !== ABSENT) return problem(b, ScanProblem.Duplicate, c, i - start + 1);
+				if (b.has[letter] !== ABSENT) return problem(b, ScanProblem.Duplicate, c, text, start, i);
 				b.mark(letter, NUMBER);
 				b.val[letter] = value;
 			}
@@ -201,11 +230,11 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 		}
 		if (c === 40) {
 			// Comments do not nest (NISTIR 6556 §3.3.4): the first ")" closes.
-			const close = text.indexOf(')', i + 1);
-			if (close < 0 || close >= end) return problem(b, ScanProblem.OpenComment, c, i - start + 1);
-			const nested = text.indexOf('(', i + 1);
+			const close = text.indexOf(41, i + 1);
+			if (close < 0 || close >= end) return problem(b, ScanProblem.OpenComment, c, text, start, i);
+			const nested = text.indexOf(40, i + 1);
 			if (nested >= 0 && nested < close)
-				return problem(b, ScanProblem.NestedComment, 40, nested - start + 1);
+				return problem(b, ScanProblem.NestedComment, 40, text, start, nested);
 			i = close + 1;
 			continue;
 		}
@@ -229,11 +258,16 @@ export function scanLine(text: string, start: number, end: number, b: Block): vo
 		if (c === 58 && b.words === 0) {
 			// ":1234" is a program number on ISO-style controls, like O1234.
 			i++;
-			while (i < end && text.charCodeAt(i) >= 48 && text.charCodeAt(i) <= 57) i++;
+			while (i < end && text[i] >= 48 && text[i] <= 57) i++;
 			b.words++;
 			continue;
 		}
-		const binary = (c < 32 && c !== TAB) || (c >= 127 && c !== 0xfeff);
-		return problem(b, binary ? ScanProblem.Binary : ScanProblem.BadChar, c, i - start + 1);
+		if (c < 128) {
+			const binary = c < 32 || c === 127;
+			return problem(b, binary ? ScanProblem.Binary : ScanProblem.BadChar, c, text, start, i);
+		}
+		// Not ASCII: not program text, except a stray byte-order mark (a stray character).
+		const u = codePointAt(text, i, end);
+		return problem(b, u === 0xfeff ? ScanProblem.BadChar : ScanProblem.Binary, u, text, start, i);
 	}
 }

@@ -5,7 +5,12 @@
  * o100 endsub` (o-codes as the open-source controller's manual gives them, SOURCES.md #2
  * [memory]). Both are recognised in either dialect: their words cannot mean anything else.
  */
-import { LineSplitter } from './lines';
+import { copyBytes, LineSplitter, programBytes } from './lines';
+
+const decoder = new TextDecoder();
+/** text[from, to) as a string (names and words of O lines: a rare, short read). */
+const textOf = (text: Uint8Array, from: number, to: number) =>
+	decoder.decode(text.subarray(from, to));
 
 /** What an O line is. */
 export const OKind = {
@@ -44,9 +49,9 @@ const FLOW = new Set([
 ]);
 
 /** Index of the first character that is not a space or tab, from `i`. */
-function skipBlank(text: string, i: number, end: number): number {
+function skipBlank(text: Uint8Array, i: number, end: number): number {
 	while (i < end) {
-		const c = text.charCodeAt(i);
+		const c = text[i];
 		if (c !== 32 && c !== 9) break;
 		i++;
 	}
@@ -57,35 +62,35 @@ function skipBlank(text: string, i: number, end: number): number {
  * Reads a line that starts with an O word (`O1234`, `:1234`, `o100 sub`, `o<part> call`);
  * null for any other line. Cheap for the usual line: one look at its first character.
  */
-export function readOLine(text: string, start: number, end: number): OLine | null {
+export function readOLine(text: Uint8Array, start: number, end: number): OLine | null {
 	let i = skipBlank(text, start, end);
 	if (i >= end) return null;
-	const c = text.charCodeAt(i);
+	const c = text[i];
 	if (c !== 79 && c !== 111 && c !== 58) return null;
 	i = skipBlank(text, i + 1, end);
 	let name: string;
-	if (i < end && text.charCodeAt(i) === 60) {
-		const close = text.indexOf('>', i);
+	if (i < end && text[i] === 60) {
+		const close = text.indexOf(62, i);
 		if (close < 0 || close >= end) return null;
-		name = text.slice(i, close + 1).toLowerCase();
+		name = textOf(text, i, close + 1).toLowerCase();
 		i = close + 1;
 	} else {
 		const from = i;
-		while (i < end && text.charCodeAt(i) >= 48 && text.charCodeAt(i) <= 57) i++;
+		while (i < end && text[i] >= 48 && text[i] <= 57) i++;
 		if (i === from) return null;
-		name = String(Number(text.slice(from, i)));
+		name = String(Number(textOf(text, from, i)));
 	}
 	i = skipBlank(text, i, end);
 	if (i >= end) return { kind: OKind.Number, name };
-	const d = text.charCodeAt(i);
+	const d = text[i];
 	if (d === 40 || d === 59) return { kind: OKind.Number, name };
 	const from = i;
 	while (i < end) {
-		const e = text.charCodeAt(i) | 32;
+		const e = text[i] | 32;
 		if (e < 97 || e > 122) break;
 		i++;
 	}
-	const word = text.slice(from, i).toLowerCase();
+	const word = textOf(text, from, i).toLowerCase();
 	if (word === 'sub') return { kind: OKind.Sub, name };
 	if (word === 'endsub') return { kind: OKind.EndSub, name };
 	if (word === 'call') return { kind: OKind.Call, name };
@@ -98,7 +103,7 @@ export function readOLine(text: string, start: number, end: number): OLine | nul
 export interface Subprogram {
 	/** Line number of lines[0]. */
 	first: number;
-	lines: string[];
+	lines: Uint8Array[];
 	/** `o-number`: ends at an M99 line; `o-sub`: at `oN endsub`. */
 	style: 'o-number' | 'o-sub';
 }
@@ -106,7 +111,7 @@ export interface Subprogram {
 /** Subprograms of one file by name. */
 export type SubprogramLibrary = Map<string, Subprogram>;
 
-/** Most text kept for subprograms (characters): memory stays flat for any file. */
+/** Most text kept for subprograms (bytes): memory stays flat for any file. */
 export const LIBRARY_CAP = 4 * 1024 * 1024;
 
 /**
@@ -114,26 +119,26 @@ export const LIBRARY_CAP = 4 * 1024 * 1024;
  * ";" are not read). A light look for the structure pass, not the full scanner.
  */
 export function hasMWord(
-	text: string,
+	text: Uint8Array,
 	start: number,
 	end: number,
 	want: (m: number) => boolean
 ): boolean {
 	for (let i = start; i < end - 1; i++) {
-		const c = text.charCodeAt(i);
+		const c = text[i];
 		if (c === 40 || c === 59) return false;
 		if ((c | 32) !== 109) continue;
 		let j = skipBlank(text, i + 1, end);
 		let n = 0;
 		let digits = 0;
 		while (j < end) {
-			const d = text.charCodeAt(j);
+			const d = text[j];
 			if (d < 48 || d > 57) break;
 			n = n * 10 + (d - 48);
 			digits++;
 			j++;
 		}
-		if (digits > 0 && (j >= end || text.charCodeAt(j) !== 46) && want(n)) return true;
+		if (digits > 0 && (j >= end || text[j] !== 46) && want(n)) return true;
 	}
 	return false;
 }
@@ -179,7 +184,7 @@ export class SubprogramRecorder {
 	 * Reads one line (number `lineNo`). Returns true when the line belongs to a subprogram
 	 * definition (its opening line, body or closing line).
 	 */
-	line(text: string, start: number, end: number, lineNo: number): boolean {
+	line(text: Uint8Array, start: number, end: number, lineNo: number): boolean {
 		if (this.open) {
 			const o = this.open;
 			if (o.sub.style === 'o-sub') {
@@ -189,12 +194,12 @@ export class SubprogramRecorder {
 					return true;
 				}
 			}
-			if (this.keepText) this.keep(text.slice(start, end));
+			if (this.keepText) this.keep(copyBytes(text, start, end));
 			if (o.sub.style === 'o-number' && hasMWord(text, start, end, isM99)) this.close();
 			return true;
 		}
 		// Most lines start with N, G, X…: no O word, nothing to read.
-		const c = text.charCodeAt(start);
+		const c = text[start];
 		if (c !== 79 && c !== 111 && c !== 58 && c !== 32 && c !== 9) {
 			if (this.findEnd && !this.mainEnded && hasMWord(text, start, end, endsMain))
 				this.mainEnded = true;
@@ -228,7 +233,7 @@ export class SubprogramRecorder {
 		this.open = { name, sub: { first, lines: [], style } };
 	}
 
-	private keep(line: string): void {
+	private keep(line: Uint8Array): void {
 		if (!this.open) return;
 		this.chars += line.length + 1;
 		if (this.chars > LIBRARY_CAP) {
@@ -252,7 +257,7 @@ export class SubprogramRecorder {
  * two passes over a stored file).
  */
 export function createSubprogramCollector(): {
-	push(chunk: string): void;
+	push(chunk: string | Uint8Array): void;
 	end(): SubprogramLibrary;
 } {
 	const rec = new SubprogramRecorder();
@@ -264,7 +269,7 @@ export function createSubprogramCollector(): {
 		}
 	});
 	return {
-		push: (chunk) => split.push(chunk),
+		push: (chunk) => split.push(programBytes(chunk)),
 		end: () => {
 			split.end();
 			return rec.library;

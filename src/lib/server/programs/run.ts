@@ -1,5 +1,4 @@
 import { createReadStream } from 'node:fs';
-import { StringDecoder } from 'node:string_decoder';
 import type { Knex } from 'knex';
 import {
 	checkProgram,
@@ -35,15 +34,14 @@ export async function checkStream(
 ): Promise<ProgramCheckResult> {
 	let bytes = 0;
 	let last = Date.now();
-	async function* read(): AsyncIterable<string> {
-		const decoder = new StringDecoder('utf8');
+	// The checker reads the stored bytes as they are (no decoding into strings): a character
+	// split between pieces is joined by the checker's line splitter.
+	async function* read(): AsyncIterable<Uint8Array> {
 		bytes = 0;
 		for await (const chunk of createReadStream(path, { highWaterMark: 256 * 1024 })) {
 			bytes += (chunk as Buffer).length;
-			yield decoder.write(chunk as Buffer);
+			yield chunk as Buffer;
 		}
-		const rest = decoder.end();
-		if (rest) yield rest;
 	}
 	return checkProgramStream(read, setup, async (lines) => {
 		if (Date.now() - last < PROGRESS_EVERY_MS) return;
