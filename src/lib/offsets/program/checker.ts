@@ -12,7 +12,7 @@ import { FindingCollector } from './collector';
 import { resolveContext, type CheckContext } from './context';
 import type { Dialect, DialectFrom } from './dialect';
 import { Interpreter } from './interpreter';
-import { LineSplitter, MAX_LINE_CHARS, programBytes } from './lines';
+import { findBreak, LineSplitter, MAX_LINE_CHARS, programBytes } from './lines';
 import { say, why } from './messages';
 import { Profile, type ProgramProfile } from './profile';
 import { scanLine } from './scanner';
@@ -117,6 +117,10 @@ class StreamChecker implements ProgramChecker {
 	/** First of two passes, after a call to a body not yet read: only bodies are collected. */
 	private collecting = false;
 
+	/** The line `lineEnd` scanned into `block` (its bytes and start), until `block1` uses it. */
+	private scannedText: Uint8Array | null = null;
+	private scannedStart = -1;
+
 	/**
 	 * `firstPass`: this pass will be followed by a second when a call comes before its body, so
 	 * from that call on it only collects bodies (the second pass checks everything).
@@ -164,6 +168,20 @@ class StreamChecker implements ProgramChecker {
 		return this.result;
 	}
 
+	/**
+	 * Where the line at `start` ends (called by the splitter before `line`). A line that will
+	 * be run is scanned here on the way, so its bytes are read once.
+	 */
+	lineEnd(text: Uint8Array, start: number, limit: number): number {
+		if (this.collecting || this.run.ended || this.structure.defining) {
+			this.scannedText = null;
+			return findBreak(text, start, limit);
+		}
+		this.scannedText = text;
+		this.scannedStart = start;
+		return scanLine(text, start, limit, this.block);
+	}
+
 	/** One physical line (called by the splitter). */
 	line(text: Uint8Array, start: number, end: number, long: boolean): void {
 		const lineNo = ++this.run.tally.lines;
@@ -193,6 +211,8 @@ class StreamChecker implements ProgramChecker {
 
 	/** Runs one line of the main program or of a called body. */
 	private block1(text: Uint8Array, start: number, end: number, lineNo: number): void {
+		const scanned = text === this.scannedText && start === this.scannedStart;
+		this.scannedText = null;
 		const c = text[start];
 		const ol =
 			c === 79 || c === 111 || c === 32 || c === 9 || c === 58 ? readOLine(text, start, end) : null;
@@ -204,7 +224,7 @@ class StreamChecker implements ProgramChecker {
 				this.run.loseHeights(lineNo, why.flow);
 			return;
 		}
-		scanLine(text, start, end, this.block);
+		if (!scanned) scanLine(text, start, end, this.block);
 		this.run.exec(this.block, lineNo);
 		if (this.run.ended && this.run.depth === 0) this.structure.endMain();
 		const call = this.run.call;

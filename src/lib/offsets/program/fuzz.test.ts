@@ -1,7 +1,10 @@
 import fc from 'fast-check';
 import { describe, expect, test } from 'vitest';
 import { findingSchema } from '../findings';
+import { Block } from './block';
 import { checkProgram, createProgramChecker } from './checker';
+import { programBytes } from './lines';
+import { scanLine } from './scanner';
 import { CLEAN, PUMP, program } from './test-data';
 
 /** Physical lines as the checker counts them: LF, CRLF or CR each end one. */
@@ -134,10 +137,57 @@ describe('never throws (fast-check)', () => {
 		);
 	});
 
+	test('bytes cut anywhere (inside a UTF-8 character, between CR and LF, in a byte-order mark) give the same result as the text', () => {
+		const text = program(
+			'\uFEFF%',
+			'O1000 (Ø10 END MILL – 90° CHAMFER)',
+			...CLEAN.slice(1),
+			'G0 Z0.1 (côté B)',
+			'G1 X',
+			'G0 X1.é'
+		).replace(/\n/g, '\r\n');
+		const whole = checkProgram(text, PUMP);
+		expect(whole.stats.lines).toBe(countLines(text));
+		const bytes = programBytes(text);
+		fc.assert(
+			fc.property(fc.array(fc.nat({ max: bytes.length }), { maxLength: 12 }), (cuts) => {
+				const points = [...new Set([0, ...cuts, bytes.length])].sort((a, b) => a - b);
+				const c = createProgramChecker(PUMP);
+				for (let i = 1; i < points.length; i++) c.push(bytes.subarray(points[i - 1], points[i]));
+				expect(c.end()).toEqual(whole);
+			}),
+			{ numRuns: 200 }
+		);
+	});
+
+	test('a line scanned inside the file reads as the same line alone, and ends at its break', () => {
+		const token = fc.oneof(
+			fc.constantFrom(...WORDS, '(c)', '(open', '(a (b) c)', ';x', '#1=2', 'Z#1', 'IF', 'é', '%', ':12'),
+			fc.integer({ min: -99999, max: 99999 }).map((v) => `X${v / 1000}`)
+		);
+		fc.assert(
+			fc.property(
+				fc.array(token, { maxLength: 12 }),
+				fc.constantFrom('\n', '\r\n', '\r'),
+				fc.constantFrom('G1 X2.', '(next)', ')', '3'),
+				(tokens, brk, next) => {
+					const line = programBytes(tokens.join(' '));
+					const alone = new Block();
+					expect(scanLine(line, 0, line.length, alone)).toBe(line.length);
+					const file = programBytes(`${tokens.join(' ')}${brk}${next}`);
+					const inFile = new Block();
+					expect(scanLine(file, 0, file.length, inFile)).toBe(line.length);
+					expect(inFile).toEqual(alone);
+				}
+			),
+			{ numRuns: 500 }
+		);
+	});
+
 	test('non-text input and enormous lines give findings, not exceptions', () => {
 		const c = createProgramChecker(PUMP);
 		c.push(undefined as unknown as string);
-		c.push(new Uint8Array([1, 2, 3]) as unknown as string);
+		c.push({ length: 3 } as unknown as string);
 		const r = c.end();
 		expect(r.findings.map((f) => [f.kind, f.severity])).toEqual([['parse-error', 'stop']]);
 		const long = checkProgram(`G0 Z1.\n${'X1.'.repeat(40_000)}\nG0 Z2.\n`, PUMP);

@@ -10,13 +10,30 @@
 /** Longest line read as one (bytes); the rest of a longer line is skipped (and reported). */
 export const MAX_LINE_CHARS = 64 * 1024;
 
-/** Receives each line: text[start, end), `long` when the line was cut at MAX_LINE_CHARS. */
+const LF = 10;
+const CR = 13;
+
+/**
+ * Receives each line. `lineEnd` is asked first where the line ends (it may read the line on
+ * the way: the checker scans its words there, so each byte is visited once); `line` then gets
+ * the line's bounds (`long` when it was cut at MAX_LINE_CHARS). Every `line` call follows a
+ * `lineEnd` call for the same line.
+ */
 export interface LineSink {
+	/** Index of the first LF or CR in text[start, limit), else `limit`. */
+	lineEnd(text: Uint8Array, start: number, limit: number): number;
 	line(text: Uint8Array, start: number, end: number, long: boolean): void;
 }
 
-const LF = 10;
-const CR = 13;
+/** Index of the first line break (LF or CR) in text[i, limit), else `limit`. */
+export function findBreak(text: Uint8Array, i: number, limit: number): number {
+	while (i < limit) {
+		const c = text[i];
+		if (c === LF || c === CR) return i;
+		i++;
+	}
+	return limit;
+}
 
 const encoder = new TextEncoder();
 
@@ -35,6 +52,17 @@ export function programBytes(chunk: string | Uint8Array): Uint8Array {
 /** A copy of bytes[start, end) that shares no memory with `bytes` (Buffer#slice would). */
 export function copyBytes(bytes: Uint8Array, start: number, end: number): Uint8Array {
 	return Uint8Array.prototype.slice.call(bytes, start, end) as Uint8Array;
+}
+
+/** Index just after the last line break in chunk[from, n) (found from the end), else `from`. */
+function afterLastBreak(chunk: Uint8Array, from: number, n: number): number {
+	let i = n;
+	while (i > from) {
+		const c = chunk[i - 1];
+		if (c === LF || c === CR) return i;
+		i--;
+	}
+	return from;
 }
 
 /** Feeds pieces of bytes, calls back per line. */
@@ -58,58 +86,50 @@ export class LineSplitter {
 			if (chunk[i] === LF) i++;
 			this.pendingCR = false;
 		}
-		let start = i;
 		if (this.carrying) {
 			// Finish the line begun in an earlier piece.
-			while (i < n) {
-				const c = chunk[i];
-				if (c === LF || c === CR) break;
-				i++;
-			}
-			if (i === n) {
-				this.extendCarry(chunk, start, n);
-				return;
-			}
-			this.extendCarry(chunk, start, i);
+			const at = findBreak(chunk, i, n);
+			this.extendCarry(chunk, i, at);
+			if (at === n) return;
 			this.endCarry();
-			i = this.afterBreak(chunk, i);
-			start = i;
+			i = this.afterBreak(chunk, at);
 		}
-		if (chunk.indexOf(CR, i) < 0) {
-			// LF only (the usual case): the engine's native search beats a loop per byte.
-			let nl = chunk.indexOf(LF, i);
-			while (nl >= 0) {
-				this.line(chunk, start, nl);
-				start = nl + 1;
-				nl = chunk.indexOf(LF, start);
-			}
-		} else {
-			while (i < n) {
-				const c = chunk[i];
-				if (c !== LF && c !== CR) {
-					i++;
-					continue;
-				}
-				this.line(chunk, start, i);
-				i = this.afterBreak(chunk, i);
-				start = i;
-			}
-		}
-		if (start < n) {
+		if (this.first && i < n) i = this.afterMark(chunk, i, n, false);
+		// Lines that end in this piece run up to just after its last break. The rest is carried
+		// to the next piece without being read, so no line is read half and then again.
+		const whole = afterLastBreak(chunk, i, n);
+		if (i < whole) i = this.lines(chunk, i, whole);
+		if (i < n) {
 			this.carrying = true;
-			this.extendCarry(chunk, start, n);
+			this.extendCarry(chunk, i, n);
 		}
+	}
+
+	/**
+	 * Gives the lines of chunk[i, whole) (`whole` is just after a break); returns `whole`. A
+	 * method of its own so V8's optimised loop (compiled while it runs) ends by returning,
+	 * not in code it never ran.
+	 */
+	private lines(chunk: Uint8Array, i: number, whole: number): number {
+		while (i < whole) {
+			// A line longer than MAX_LINE_CHARS is not read past the cap (+1 to know it is longer).
+			const limit = whole - i > MAX_LINE_CHARS ? i + MAX_LINE_CHARS + 1 : whole;
+			const end = this.sink.lineEnd(chunk, i, limit);
+			if (end < limit) {
+				this.sink.line(chunk, i, end, false);
+				i = this.afterBreak(chunk, end);
+				continue;
+			}
+			// Longer than the cap: read what fits, skip to the break (there is one before `whole`).
+			this.sink.line(chunk, i, i + MAX_LINE_CHARS, true);
+			i = this.afterBreak(chunk, findBreak(chunk, limit, whole));
+		}
+		return i;
 	}
 
 	/** Reads the last line (one with no break after it). */
 	end(): void {
 		if (this.carrying) this.endCarry();
-	}
-
-	private line(text: Uint8Array, start: number, end: number): void {
-		if (this.first) start = this.afterMark(text, start, end);
-		if (end - start > MAX_LINE_CHARS) this.sink.line(text, start, start + MAX_LINE_CHARS, true);
-		else this.sink.line(text, start, end, false);
 	}
 
 	/** Index after the break at `i` (CRLF counts once, also across pieces). */
@@ -145,14 +165,19 @@ export class LineSplitter {
 		this.carryLength = 0;
 		this.carrying = false;
 		this.skipping = false;
-		const start = this.first ? this.afterMark(this.carry, 0, length) : 0;
+		const start = this.first ? this.afterMark(this.carry, 0, length, true) : 0;
+		this.sink.lineEnd(this.carry, start, length);
 		this.sink.line(this.carry, start, length, long);
 	}
 
-	/** Where the first line's text begins: after a UTF-8 byte-order mark (EF BB BF), if any. */
-	private afterMark(text: Uint8Array, start: number, end: number): number {
+	/**
+	 * Where the first line's text begins: after a UTF-8 byte-order mark (EF BB BF), if any.
+	 * Undecided while fewer than 3 bytes of a first line not yet `whole` have come.
+	 */
+	private afterMark(text: Uint8Array, start: number, limit: number, whole: boolean): number {
+		if (limit - start < 3 && !whole && findBreak(text, start, limit) === limit) return start;
 		this.first = false;
-		return end - start >= 3 && text[start] === 0xef && text[start + 1] === 0xbb && text[start + 2] === 0xbf
+		return limit - start >= 3 && text[start] === 0xef && text[start + 1] === 0xbb && text[start + 2] === 0xbf
 			? start + 3
 			: start;
 	}

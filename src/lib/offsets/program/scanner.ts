@@ -7,12 +7,15 @@
  * of the line; "/" first on a line is block delete; "%" marks the start or end of the tape.
  */
 import { ABSENT, Block, L, NUMBER, ScanProblem, UNKNOWN, Unmodelled } from './block';
+import { findBreak } from './lines';
 
 const POW10: number[] = [];
 for (let i = 0; i <= 17; i++) POW10.push(10 ** i);
 
 const SPACE = 32;
 const TAB = 9;
+const LF = 10;
+const CR = 13;
 
 /**
  * Records the line's problem at byte `at`: its column counts characters, not bytes (a UTF-8
@@ -25,13 +28,15 @@ function problem(
 	text: Uint8Array,
 	start: number,
 	at: number
-): void {
+): number {
 	let col = 1;
 	for (let k = start; k < at; k++) if ((text[k] & 0xc0) !== 0x80) col++;
 	b.problem = kind;
 	b.problemChar = char;
 	b.problemCol = col;
+	return at;
 }
+
 
 /** The character (code point) whose UTF-8 bytes begin at `i`; U+FFFD when they are not UTF-8. */
 export function codePointAt(text: Uint8Array, i: number, end: number): number {
@@ -51,14 +56,18 @@ export function codePointAt(text: Uint8Array, i: number, end: number): number {
 /**
  * After a word the scanner could not follow (a parameter, a macro word), X, Y or Z further
  * on may still move the machine: mark them unknown so no height is trusted on this line.
+ * Returns the index of the line's end.
  */
-function markRestUnknown(text: Uint8Array, from: number, end: number, b: Block): void {
-	for (let i = from; i < end; i++) {
-		const u = text[i] | 32;
+function markRestUnknown(text: Uint8Array, from: number, limit: number, b: Block): number {
+	for (let i = from; i < limit; i++) {
+		const c = text[i];
+		if (c === LF || c === CR) return i;
+		const u = c | 32;
 		const letter = u - 97;
 		if ((letter === L.X || letter === L.Y || letter === L.Z) && b.has[letter] === ABSENT)
 			b.mark(letter, UNKNOWN);
 	}
+	return limit;
 }
 
 /**
@@ -104,8 +113,19 @@ function isMacroWord(text: Uint8Array, from: number, to: number): boolean {
 	return MACRO_WORDS.has(String.fromCharCode(...text.subarray(from, to)).toUpperCase());
 }
 
-/** Reads text[start, end) (one line, no line break) into `b`. Never throws. */
-export function scanLine(text: Uint8Array, start: number, end: number, b: Block): void {
+/**
+ * Reads the line that starts at `start` into `b`, up to its line break (LF or CR) or `limit`,
+ * and returns where it ends (the break's index, else `limit`). Finding the end while reading
+ * the words visits each byte once: the splitter does not search for the break first. Never
+ * throws.
+ */
+export function scanLine(text: Uint8Array, start: number, limit: number, b: Block): number {
+	const stop = scanWords(text, start, limit, b);
+	return stop < limit ? findBreak(text, stop, limit) : limit;
+}
+
+/** Reads the words from `start`; returns where it stopped (at the break, or earlier). */
+function scanWords(text: Uint8Array, start: number, end: number, b: Block): number {
 	b.reset();
 	let i = start;
 	while (i < end) {
@@ -128,6 +148,7 @@ export function scanLine(text: Uint8Array, start: number, end: number, b: Block)
 			let j = i + 1;
 			let d = j < end ? text[j] : -1;
 			while (d === SPACE || d === TAB) d = ++j < end ? text[j] : -1;
+			// A letter last on the line: a break stops the number below with no digits read.
 			if (j >= end) return problem(b, ScanProblem.NoNumber, c, text, start, i);
 			if (d === 35 || d === 91) {
 				// "#" or "[": a parameter or expression (NISTIR 6556 §3.3.2); value unknown here.
@@ -135,8 +156,7 @@ export function scanLine(text: Uint8Array, start: number, end: number, b: Block)
 				b.unmodelled = Unmodelled.Parameter;
 				if (letter !== L.G && letter !== L.M) b.mark(letter, UNKNOWN);
 				else b.unknownCode = true;
-				markRestUnknown(text, j, end, b);
-				return;
+				return markRestUnknown(text, j, end, b);
 			}
 			const dl = (d | 32) - 97;
 			if (dl >= 0 && dl < 26 && d >= 65 && j === i + 1) {
@@ -151,8 +171,7 @@ export function scanLine(text: Uint8Array, start: number, end: number, b: Block)
 				if (isMacroWord(text, i, k)) {
 					b.words++;
 					b.unmodelled = Unmodelled.MacroWord;
-					markRestUnknown(text, j, end, b);
-					return;
+					return markRestUnknown(text, j, end, b);
 				}
 				const oh = (d | 32) === 111;
 				return problem(b, oh ? ScanProblem.LetterO : ScanProblem.Letters, c, text, start, i);
@@ -230,18 +249,22 @@ export function scanLine(text: Uint8Array, start: number, end: number, b: Block)
 		}
 		if (c === 40) {
 			// Comments do not nest (NISTIR 6556 §3.3.4): the first ")" closes.
-			const close = text.indexOf(41, i + 1);
-			if (close < 0 || close >= end) return problem(b, ScanProblem.OpenComment, c, text, start, i);
-			const nested = text.indexOf(40, i + 1);
-			if (nested >= 0 && nested < close)
-				return problem(b, ScanProblem.NestedComment, 40, text, start, nested);
-			i = close + 1;
+			let k = i + 1;
+			let nested = -1;
+			let e = 0;
+			while (k < end && (e = text[k]) !== 41 && e !== LF && e !== CR) {
+				if (e === 40 && nested < 0) nested = k;
+				k++;
+			}
+			if (k >= end || e !== 41) return problem(b, ScanProblem.OpenComment, c, text, start, i);
+			if (nested >= 0) return problem(b, ScanProblem.NestedComment, 40, text, start, nested);
+			i = k + 1;
 			continue;
 		}
-		if (c === 59) return;
+		if (c === 59) return i;
 		if (c === 37 && b.words === 0) {
 			b.percent = true;
-			return;
+			return i;
 		}
 		if (c === 35) {
 			// "#100 = 2" first on the line sets a parameter and moves nothing; later on a line the
@@ -249,11 +272,10 @@ export function scanLine(text: Uint8Array, start: number, end: number, b: Block)
 			b.words++;
 			if (b.words === 1) {
 				b.unmodelled = Unmodelled.Assign;
-				return;
+				return i;
 			}
 			b.unmodelled = Unmodelled.Parameter;
-			markRestUnknown(text, i, end, b);
-			return;
+			return markRestUnknown(text, i, end, b);
 		}
 		if (c === 58 && b.words === 0) {
 			// ":1234" is a program number on ISO-style controls, like O1234.
@@ -262,6 +284,7 @@ export function scanLine(text: Uint8Array, start: number, end: number, b: Block)
 			b.words++;
 			continue;
 		}
+		if (c === LF || c === CR) return i;
 		if (c < 128) {
 			const binary = c < 32 || c === 127;
 			return problem(b, binary ? ScanProblem.Binary : ScanProblem.BadChar, c, text, start, i);
@@ -270,4 +293,5 @@ export function scanLine(text: Uint8Array, start: number, end: number, b: Block)
 		const u = codePointAt(text, i, end);
 		return problem(b, u === 0xfeff ? ScanProblem.BadChar : ScanProblem.Binary, u, text, start, i);
 	}
+	return end;
 }

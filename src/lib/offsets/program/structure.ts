@@ -5,7 +5,7 @@
  * o100 endsub` (o-codes as the open-source controller's manual gives them, SOURCES.md #2
  * [memory]). Both are recognised in either dialect: their words cannot mean anything else.
  */
-import { copyBytes, LineSplitter, programBytes } from './lines';
+import { copyBytes, findBreak, LineSplitter, programBytes } from './lines';
 
 const decoder = new TextDecoder();
 /** text[from, to) as a string (names and words of O lines: a rare, short read). */
@@ -263,6 +263,7 @@ export function createSubprogramCollector(): {
 	const rec = new SubprogramRecorder();
 	let n = 0;
 	const split = new LineSplitter({
+		lineEnd: findBreak,
 		line: (text, start, end) => {
 			n++;
 			rec.line(text, start, end, n);
