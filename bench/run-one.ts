@@ -6,7 +6,8 @@
  *   full check; the file is read a second time only when a subprogram is called before its
  *   body, as in the posted-style program). It reads the file's bytes, as the server does: the
  *   check needs no decoding into strings.
- * - `floor`: the same read stream, only counting lines: the least any check of the file costs.
+ * - `floor`: the same read stream (bytes, as Datumkeep reads them), only counting lines: the
+ *   least any check of the file costs.
  * - `gcode-parser-stream`: gcode-parser's GCodeLineStream piped from the same file stream,
  *   results consumed and dropped (its own streaming API, memory kept flat).
  * - `gcode-parser-lines`: gcode-parser's parseLine called on every line split by hand from
@@ -22,7 +23,7 @@ import { BENCH_SETUP } from './setup';
 
 const CHUNK = 1 << 20;
 /**
- * Every runner but Datumkeep's (which reads bytes) decodes the file the same way. latin1 by default: a program is ASCII, latin1
+ * The gcode-parser runners take text: they decode the file the same way. latin1 by default: a program is ASCII, latin1
  * never fails on a stray byte and is the cheapest decode; BENCH_ENCODING=utf8 to compare.
  */
 const ENCODING = (process.env.BENCH_ENCODING ?? 'latin1') as BufferEncoding;
@@ -31,7 +32,8 @@ async function datumkeep(file: string, sample: () => void): Promise<Record<strin
 	let passes = 0;
 	async function* read(): AsyncIterable<Uint8Array> {
 		passes++;
-		for await (const chunk of createReadStream(file, { highWaterMark: CHUNK })) yield chunk as Buffer;
+		for await (const chunk of createReadStream(file, { highWaterMark: CHUNK }))
+			yield chunk as Buffer;
 	}
 	const { findings, stats } = await checkProgramStream(read, BENCH_SETUP, () => sample());
 	return {
@@ -45,12 +47,12 @@ async function datumkeep(file: string, sample: () => void): Promise<Record<strin
 
 async function floor(file: string, sample: () => void): Promise<Record<string, unknown>> {
 	let lines = 0;
-	for await (const chunk of createReadStream(file, { encoding: ENCODING, highWaterMark: CHUNK })) {
-		const text = chunk as string;
-		let nl = text.indexOf('\n');
+	for await (const chunk of createReadStream(file, { highWaterMark: CHUNK })) {
+		const bytes = chunk as Buffer;
+		let nl = bytes.indexOf(10);
 		while (nl >= 0) {
 			lines++;
-			nl = text.indexOf('\n', nl + 1);
+			nl = bytes.indexOf(10, nl + 1);
 		}
 		sample();
 	}

@@ -162,7 +162,19 @@ describe('never throws (fast-check)', () => {
 
 	test('a line scanned inside the file reads as the same line alone, and ends at its break', () => {
 		const token = fc.oneof(
-			fc.constantFrom(...WORDS, '(c)', '(open', '(a (b) c)', ';x', '#1=2', 'Z#1', 'IF', 'é', '%', ':12'),
+			fc.constantFrom(
+				...WORDS,
+				'(c)',
+				'(open',
+				'(a (b) c)',
+				';x',
+				'#1=2',
+				'Z#1',
+				'IF',
+				'é',
+				'%',
+				':12'
+			),
 			fc.integer({ min: -99999, max: 99999 }).map((v) => `X${v / 1000}`)
 		);
 		fc.assert(

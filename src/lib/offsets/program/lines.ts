@@ -177,7 +177,10 @@ export class LineSplitter {
 	private afterMark(text: Uint8Array, start: number, limit: number, whole: boolean): number {
 		if (limit - start < 3 && !whole && findBreak(text, start, limit) === limit) return start;
 		this.first = false;
-		return limit - start >= 3 && text[start] === 0xef && text[start + 1] === 0xbb && text[start + 2] === 0xbf
+		return limit - start >= 3 &&
+			text[start] === 0xef &&
+			text[start + 1] === 0xbb &&
+			text[start + 2] === 0xbf
 			? start + 3
 			: start;
 	}

@@ -47,7 +47,10 @@ describe('structure', () => {
 		expect(readOLine(bytes('O0100 (POCKET)'), 0, 14)).toEqual({ kind: OKind.Number, name: '100' });
 		expect(readOLine(bytes(':2000'), 0, 5)).toEqual({ kind: OKind.Number, name: '2000' });
 		expect(readOLine(bytes('o<Face> sub'), 0, 11)).toEqual({ kind: OKind.Sub, name: '<face>' });
-		expect(readOLine(bytes('  o100 call [1] [2]'), 0, 19)).toEqual({ kind: OKind.Call, name: '100' });
+		expect(readOLine(bytes('  o100 call [1] [2]'), 0, 19)).toEqual({
+			kind: OKind.Call,
+			name: '100'
+		});
 		expect(readOLine(bytes('o10 if [#1 GT 0]'), 0, 16)?.kind).toBe(OKind.Flow);
 		expect(readOLine(bytes('G0 X1.'), 0, 6)).toBeNull();
 	});

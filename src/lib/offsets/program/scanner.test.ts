@@ -97,7 +97,11 @@ describe('scanLine: word-address format (ISO 6983-1 [memory]; NISTIR 6556 §3.3)
 
 	test('a character outside the BMP and bytes that are not UTF-8 are named, not misread', () => {
 		const wrench = scan('G0 X1.\u{1F527}');
-		expect([wrench.problem, wrench.problemChar, wrench.problemCol]).toEqual([ScanProblem.Binary, 0x1f527, 7]);
+		expect([wrench.problem, wrench.problemChar, wrench.problemCol]).toEqual([
+			ScanProblem.Binary,
+			0x1f527,
+			7
+		]);
 		// A Windows-1252 "°" (one byte B0) inside no comment: not UTF-8, named as U+FFFD.
 		const b = new Block();
 		const raw = Uint8Array.from([0x58, 0x31, 0x20, 0xb0]);

@@ -37,12 +37,12 @@ function problem(
 	return at;
 }
 
-
 /** The character (code point) whose UTF-8 bytes begin at `i`; U+FFFD when they are not UTF-8. */
 export function codePointAt(text: Uint8Array, i: number, end: number): number {
 	const c = text[i];
 	if (c < 0x80) return c;
-	const more = c >= 0xc2 && c < 0xe0 ? 1 : c >= 0xe0 && c < 0xf0 ? 2 : c >= 0xf0 && c < 0xf5 ? 3 : 0;
+	const more =
+		c >= 0xc2 && c < 0xe0 ? 1 : c >= 0xe0 && c < 0xf0 ? 2 : c >= 0xf0 && c < 0xf5 ? 3 : 0;
 	if (more === 0 || i + more >= end) return 0xfffd;
 	let cp = c & (0x3f >> more);
 	for (let k = 1; k <= more; k++) {
