@@ -4,7 +4,8 @@
  * (2.2.0) reading the same files, and a bare read that only counts lines (the floor), each run
  * in a fresh process.
  * Figures go to the console and to bench/out/results.json; docs/PERFORMANCE.md explains them.
- * Options: BENCH_RUNS (default 3; the median is reported), BENCH_SKIP_GENERATE=1.
+ * Options: BENCH_RUNS (default 5; the median is reported: this machine swings ±25 % between
+ * runs of the same code), BENCH_SKIP_GENERATE=1.
  * Then the fleet board API under load (bench/fleet.ts, its own process). `npm run bench -- fleet`
  * runs only that one, `npm run bench -- program` only the program check. `npm run bench -- scale`
  * runs only the scale bench (bench/scale.ts: 10 → 100 → 1,000 shops behind `npm run cluster`).
@@ -27,7 +28,7 @@ interface RunResult {
 
 const here = dirname(fileURLToPath(import.meta.url));
 const outDir = join(here, 'out');
-const RUNS = Number(process.env.BENCH_RUNS ?? 3);
+const RUNS = Number(process.env.BENCH_RUNS ?? 5);
 const SIZES = [
 	{ name: '100k', lines: 100_000, make: generateProgram },
 	{ name: '1M', lines: 1_000_000, make: generateProgram },
