@@ -78,6 +78,11 @@ test('a posted program with a safe-start block and one low move between fixtures
 	await expect(
 		picture.locator('[data-testid="profile-finding"][data-severity="stop"]')
 	).toHaveCount(1);
+	// The one tool change (line 5) is marked on its own (thinning only merges crowded marks).
+	await expect(picture.getByTestId('profile-tool-change')).toHaveCount(1);
+	await expect(picture.getByTestId('profile-tool-change').locator('title')).toHaveText(
+		'Tool change at line 5'
+	);
 	await shot(page, 'program-dialect-iso');
 	await picture.locator('[data-testid="profile-finding"]').first().click();
 	await expect(page).toHaveURL(/\/text\?version=1&line=12#L12$/);
