@@ -19,7 +19,7 @@ export interface ToolChangeMark {
 }
 
 /** Closest two marks may be, and two labels ("T12" at 11 px type needs about 24). */
-export const MARK_GAP = 3;
+export const MARK_GAP = 6;
 export const LABEL_GAP = 28;
 
 export function toolChangeMarks(
