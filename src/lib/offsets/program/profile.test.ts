@@ -1,6 +1,6 @@
 import { describe, expect, test } from 'vitest';
 import { checkProgram, checkProgramStream, createProgramChecker } from './checker';
-import { BUCKETS, Profile } from './profile';
+import { BUCKETS, MAX_TOOL_CHANGES, Profile } from './profile';
 import { programBytes as bytes } from './lines';
 import { OKind, readOLine } from './structure';
 import { CLEAN, PUMP, program } from './test-data';
@@ -31,11 +31,30 @@ describe('the picture of tip heights (Profile)', () => {
 		expect(r.points.every((q, i) => i === 0 || q[0] > r.points[i - 1][0])).toBe(true);
 	});
 
+	test('thousands of tool changes: at most MAX_TOOL_CHANGES kept, spread over the whole program, all counted', () => {
+		const p = new Profile();
+		const n = 5_000;
+		for (let i = 0; i < n; i++) p.toolChange(10 + i * 20, String((i % 4) + 1));
+		const r = p.result((v) => v);
+		expect(r.toolChangeCount).toBe(n);
+		expect(r.toolChanges.length).toBeLessThanOrEqual(MAX_TOOL_CHANGES);
+		// Every 4th change (stride 4: 5 000 → 1 250), the first at line 10, the last near the end.
+		expect(r.toolChangesPerMark).toBe(4);
+		expect(r.toolChanges).toHaveLength(1250);
+		expect(r.toolChanges[0]).toEqual([10, '1']);
+		expect(r.toolChanges[1]).toEqual([90, '1']);
+		expect(r.toolChanges.at(-1)![0]).toBe(10 + 4996 * 20);
+		expect(r.toolChanges.every((c, i) => i === 0 || c[0] - r.toolChanges[i - 1][0] === 80)).toBe(
+			true
+		);
+	});
+
 	test('checkProgram keeps it when asked: tip heights above the reference, tool changes', () => {
 		const r = checkProgram(program(...CLEAN), { ...PUMP, profile: true });
 		// After T1 M6 the spindle is at machine Z 0: tip 0 − H1 = 15 (reference-touch, DESIGN.md §2).
 		expect(r.profile?.points[0]).toEqual([4, 15, 1]);
 		expect(r.profile?.toolChanges).toEqual([[4, '1']]);
+		expect([r.profile?.toolChangeCount, r.profile?.toolChangesPerMark]).toEqual([1, 1]);
 		// The lowest point: G54 Z-0.25 → 1.0 (line 8, a feed).
 		expect(r.profile?.points).toContainEqual([8, 1, 0]);
 		expect(checkProgram(program(...CLEAN), PUMP).profile).toBeUndefined();

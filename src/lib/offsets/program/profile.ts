@@ -7,7 +7,10 @@
 
 /** Buckets kept; the picture has at most twice as many points. */
 export const BUCKETS = 2048;
-/** Tool changes kept for the picture. */
+/**
+ * Tool changes kept for the picture. A program with more keeps every 2nd, 4th… change so the
+ * marks still span the whole program (and says how many there were).
+ */
 export const MAX_TOOL_CHANGES = 2000;
 
 /** One point: physical line, tip height above the reference (machine units), 1 = rapid. */
@@ -16,8 +19,12 @@ export type ProfilePoint = [line: number, tip: number, rapid: 0 | 1];
 /** The picture's data (JSON). */
 export interface ProgramProfile {
 	points: ProfilePoint[];
-	/** [line, tool] of each M6 ('' = no T word). */
+	/** [line, tool] of each M6 ('' = no T word); every `toolChangesPerMark`-th when there are many. */
 	toolChanges: [number, string][];
+	/** Tool changes in the program (kept or not). Absent in results stored before it existed. */
+	toolChangeCount?: number;
+	/** 1 = every change is in `toolChanges`; 2 = every other one… */
+	toolChangesPerMark?: number;
 	/** Moves per bucket at the end (1 = every move is a point). */
 	movesPerPoint: number;
 }
@@ -35,6 +42,8 @@ export class Profile {
 	private inBucket = 0;
 	private perBucket = 1;
 	private readonly changes: [number, string][] = [];
+	private changeCount = 0;
+	private changeStride = 1;
 
 	/** Adds a move's end point. */
 	point(line: number, tip: number, rapid: boolean): void {
@@ -62,7 +71,17 @@ export class Profile {
 
 	/** A tool change at `line`. */
 	toolChange(line: number, tool: string): void {
-		if (this.changes.length < MAX_TOOL_CHANGES) this.changes.push([line, tool]);
+		const n = this.changeCount++;
+		if (n % this.changeStride !== 0) return;
+		if (this.changes.length >= MAX_TOOL_CHANGES) {
+			// Full: keep every other change kept so far, and from now on every 2×stride-th.
+			let k = 0;
+			for (let i = 0; i < this.changes.length; i += 2) this.changes[k++] = this.changes[i];
+			this.changes.length = k;
+			this.changeStride *= 2;
+			if (n % this.changeStride !== 0) return;
+		}
+		this.changes.push([line, tool]);
 	}
 
 	/** Merges neighbouring buckets: each then covers twice as many moves. */
@@ -93,6 +112,12 @@ export class Profile {
 			else if (lo[0] <= hi[0]) points.push(lo, hi);
 			else points.push(hi, lo);
 		}
-		return { points, toolChanges: this.changes.slice(), movesPerPoint: this.perBucket };
+		return {
+			points,
+			toolChanges: this.changes.slice(),
+			toolChangeCount: this.changeCount,
+			toolChangesPerMark: this.changeStride,
+			movesPerPoint: this.perBucket
+		};
 	}
 }

@@ -9,6 +9,9 @@ export interface ProfileView {
 	lines: number;
 	points: ProfilePoint[];
 	toolChanges: [number, string][];
+	/** Tool changes in the program; `toolChanges` holds every `toolChangesPerMark`-th of them. */
+	toolChangeCount: number;
+	toolChangesPerMark: number;
 	/** Each fixture's part top, above the reference, in the machine's units. */
 	fixtures: { register: string; top: number }[];
 	clearanceHeight: number;
@@ -35,6 +38,8 @@ export function profileView(input: CheckInput, result: ProgramCheckResult): Prof
 		lines: result.stats.lines,
 		points: p.points,
 		toolChanges: p.toolChanges,
+		toolChangeCount: p.toolChangeCount ?? p.toolChanges.length,
+		toolChangesPerMark: p.toolChangesPerMark ?? 1,
 		fixtures: ps.setup.fixtures.map((f) => ({
 			register: f.register,
 			top: conv(f.topHeight ?? f.zeroHeight)
