@@ -1,6 +1,6 @@
 import { expect, test, type Page } from '@playwright/test';
-import knex, { type Knex } from 'knex';
-import { DEMO_PASSWORD, FERNHILL, baseURL, mailsTo, signedInClient } from './helpers';
+import type { Knex } from 'knex';
+import { baseURL, DEMO_PASSWORD, FERNHILL, mailsTo, openTestDb, signedInClient } from './helpers';
 
 /**
  * Billing end to end: the production build, the local fake Stripe (its stand-in checkout page
@@ -14,10 +14,7 @@ const BILLING = `/shops/${FERNHILL.slug}/billing`;
 
 let sql: Knex;
 test.beforeAll(async () => {
-	const url = process.env.DATABASE_URL ?? '';
-	if (!/_test$/.test(new URL(url).pathname))
-		throw new Error('billing e2e needs the *_test database');
-	sql = knex({ client: 'pg', connection: url, pool: { min: 0, max: 2 } });
+	sql = openTestDb();
 	const shop = await sql('shops').where({ slug: FERNHILL.slug }).first('id');
 	await sql('billing_invoices').where({ shop_id: shop.id }).del();
 	await sql('shops')

@@ -1,4 +1,5 @@
 import { expect, request, type APIRequestContext, type Page } from '@playwright/test';
+import knex, { type Knex } from 'knex';
 
 export const DEMO_PASSWORD = 'datumkeep-demo';
 export const baseURL = `http://127.0.0.1:${process.env.PORT ?? 4173}`;
@@ -74,4 +75,12 @@ export async function signUpThroughForm(
 	// Provisioning the shop's schema takes a few seconds on a busy machine.
 	await expect(page).toHaveURL(/\/shops\/[a-z0-9-]+$/, { timeout: 30_000 });
 	return new URL(page.url()).pathname.split('/').pop()!;
+}
+
+/** A small pool on the e2e database; refuses any database but a `*_test` one. */
+export function openTestDb(): Knex {
+	const url = process.env.DATABASE_URL ?? '';
+	if (!url || !/_test$/.test(new URL(url).pathname))
+		throw new Error('e2e needs the *_test database');
+	return knex({ client: 'pg', connection: url, pool: { min: 0, max: 2 } });
 }

@@ -1,10 +1,10 @@
 import { expect, test, type Page } from '@playwright/test';
-import knex, { type Knex } from 'knex';
+import type { Knex } from 'knex';
 import { parse } from 'csv-parse/sync';
 import yauzl from 'yauzl';
 import { hashPassword } from '../../src/lib/server/auth/password';
 import { formatWhen } from '../../src/lib/time';
-import { mailsTo, signUpThroughForm } from './helpers';
+import { mailsTo, openTestDb, signUpThroughForm } from './helpers';
 
 /**
  * A shop's whole life: a stranger signs up and follows the first steps to a first
@@ -14,9 +14,7 @@ import { mailsTo, signUpThroughForm } from './helpers';
  */
 let sql: Knex;
 test.beforeAll(() => {
-	const url = process.env.DATABASE_URL;
-	if (!url?.endsWith('_test')) throw new Error('e2e needs the *_test database');
-	sql = knex({ client: 'pg', connection: url, pool: { min: 0, max: 2 } });
+	sql = openTestDb();
 });
 test.afterAll(async () => {
 	await sql?.destroy();

@@ -1,7 +1,7 @@
 import { expect, test, type Page } from '@playwright/test';
-import knex, { type Knex } from 'knex';
+import type { Knex } from 'knex';
 import { hashPassword } from '../../src/lib/server/auth/password';
-import { signedInClient, signUpThroughForm } from './helpers';
+import { openTestDb, signedInClient, signUpThroughForm } from './helpers';
 
 /**
  * The shop's wear limit (issue 20) on the settings page: typed in the shop's units, read by the
@@ -11,9 +11,7 @@ import { signedInClient, signUpThroughForm } from './helpers';
  */
 let sql: Knex;
 test.beforeAll(() => {
-	const url = process.env.DATABASE_URL;
-	if (!url?.endsWith('_test')) throw new Error('e2e needs the *_test database');
-	sql = knex({ client: 'pg', connection: url, pool: { min: 0, max: 2 } });
+	sql = openTestDb();
 });
 test.afterAll(async () => {
 	await sql?.destroy();

@@ -49,6 +49,13 @@ export type EdgeReadingForm = z.infer<typeof edgeReadingSchema>;
 export const TOOL_COMPONENTS = ['radius', 'length-wear', 'radius-wear'] as const;
 export type ToolComponent = (typeof TOOL_COMPONENTS)[number];
 
+/** The key of each tool register in the engine's component values (load program, read-back). */
+export const TOOL_COMPONENT_KEY: Record<ToolComponent, 'radius' | 'lengthWear' | 'radiusWear'> = {
+	radius: 'radius',
+	'length-wear': 'lengthWear',
+	'radius-wear': 'radiusWear'
+};
+
 export const TOOL_COMPONENT_LABEL: Record<ToolComponent, string> = {
 	radius: 'Radius geometry',
 	'length-wear': 'Length wear',

@@ -6,11 +6,11 @@
  */
 import type { Knex } from 'knex';
 import { canonicalH, findingTitle, formatWithUnits } from '$lib/offsets';
+import { TOOL_COMPONENTS } from '$lib/schemas/components';
 import { iso } from '../db/convert';
 import { componentLabel, type ComponentKind } from './store';
 
 const WORK_COMPONENTS = ['x', 'y'] as const;
-const TOOL_COMPONENTS = ['radius', 'length-wear', 'radius-wear'] as const;
 
 /** The page's params, checked: null when they name no component register. */
 export function componentFromParams(

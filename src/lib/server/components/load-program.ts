@@ -5,6 +5,7 @@
  * limit stays out unless a lead includes flagged registers on purpose.
  */
 import type { Knex } from 'knex';
+import { TOOL_COMPONENT_KEY, type ToolComponent } from '$lib/schemas/components';
 import { resolvePolicy, wearBeyondLimit, type LoadProgramOptions } from '$lib/offsets';
 import type { MachineRecord } from '../offsets/machine-state';
 import { shopPolicy } from '../shops/settings';
@@ -61,12 +62,7 @@ export async function programComponents(
 			if (age > policy.workMaxAgeDays)
 				flag(`${r.component.toUpperCase()} OLDER THAN THE SHOP LIMIT`);
 		} else {
-			const key =
-				r.component === 'radius'
-					? 'radius'
-					: r.component === 'length-wear'
-						? 'lengthWear'
-						: 'radiusWear';
+			const key = TOOL_COMPONENT_KEY[r.component as ToolComponent];
 			values.tools![r.register] = { ...values.tools![r.register], [key]: value };
 			if (r.component !== 'radius' && wearBeyondLimit(value, machine.units, limit))
 				flag('WEAR BEYOND THE SHOP LIMIT - MOVE IT INTO GEOMETRY AFTER RE-MEASURING');

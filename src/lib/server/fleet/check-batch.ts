@@ -24,9 +24,10 @@ import {
 } from '../offsets/machine-state';
 import { componentFindings } from '../components/findings';
 import { componentMismatches, readbackFindingsFrom } from '../readbacks/findings';
-import { LAST_COMPARED_SQL, verificationRowFrom } from '../readbacks/status';
+import { verificationRowFrom, verificationRows } from '../readbacks/status';
 import { shopPolicy } from '../shops/settings';
-import { findingRowKey, subjectLabel, type ResolveNote } from './check';
+import type { ResolveNote } from './check';
+import { findingRows, upsertFindingRows } from './finding-rows';
 
 /** One machine's findings as the check stores them. */
 export interface MachineFindings {
@@ -123,20 +124,7 @@ export async function findingsOfMachines(
 			masterTouch.set(Number(r.machine_id), tipZ(Number(r.machine_z), Number(r.block_height)));
 	}
 	// Read-backs (readbacks/status machineVerification and registersInUse).
-	const { rows: verificationRows } = await trx.raw(
-		`select c.machine_id, c.register_kind, c.register, c.offset_version_id, c.value, c.created_at,
-			v.status, v.offset_version_id as compared_version, v.readback_id, v.value as control_value,
-			v.causes,
-			r.taken_at as readback_at
-		from current_offsets c
-		left join (${LAST_COMPARED_SQL}) v
-			on v.machine_id = c.machine_id and v.register_kind = c.register_kind and v.register = c.register
-		left join readbacks r on r.id = v.readback_id
-		where c.machine_id = any(:ids)
-		order by c.machine_id, c.register_kind desc, c.register`,
-		{ ids }
-	);
-	const verification = byMachine(verificationRows as Record<string, unknown>[]);
+	const verification = byMachine(await verificationRows(trx, ids));
 	const { rows: inUseRows } = await trx.raw(
 		`select s.machine_id, 'work' as kind, f.register as register
 		from setups s join setup_fixtures sf on sf.setup_id = s.id join fixtures f on f.id = sf.fixture_id
@@ -224,63 +212,9 @@ export async function storeFindingsMany(
 	note: ResolveNote
 ): Promise<{ opened: number; stillOpen: number; resolved: number }> {
 	if (machines.length === 0) return { opened: 0, stillOpen: 0, resolved: 0 };
-	const rowsIn = new Map<
-		string,
-		{
-			key: string;
-			machine_id: number;
-			kind: string;
-			severity: string;
-			subject_type: string;
-			subject: string;
-			message: string;
-		}
-	>();
-	// The engine may name one problem twice (e.g. two setups sharing a pair): one row per key,
-	// the last one named (as storeFindings keeps it).
-	for (const m of machines)
-		for (const f of m.findings) {
-			const key = findingRowKey(m.machineId, f);
-			rowsIn.set(key, {
-				key,
-				machine_id: m.machineId,
-				kind: f.kind,
-				severity: f.severity,
-				subject_type: f.subject.type,
-				subject: subjectLabel(f, m.setupNames),
-				message: f.message
-			});
-		}
-	let opened = 0;
-	let stillOpen = 0;
-	const at = checkedAt.toISOString();
-	if (rowsIn.size > 0) {
-		const { rows } = await trx.raw(
-			`insert into findings as f (key, machine_id, kind, severity, subject_type, subject, message,
-				status, first_seen_at, last_seen_at, previous_finding_id)
-			select x.key, x.machine_id, x.kind, x.severity, x.subject_type, x.subject, x.message,
-				'open', :at, :at,
-				(select p.id from findings p where p.key = x.key and p.status = 'resolved'
-					order by p.resolved_at desc nulls last, p.id desc limit 1)
-			from jsonb_to_recordset(cast(:rows as jsonb)) as x(key text, machine_id bigint, kind text,
-				severity text, subject_type text, subject text, message text)
-			-- An older check retried late must not bring back what was resolved after it looked.
-			where exists (select 1 from findings l where l.key = x.key and l.status <> 'resolved')
-				or not exists (select 1 from findings r where r.key = x.key and r.status = 'resolved'
-					and r.resolved_at >= :at)
-			on conflict (key) where status <> 'resolved' do update set
-				severity = excluded.severity,
-				subject = excluded.subject,
-				message = excluded.message,
-				last_seen_at = greatest(f.last_seen_at, excluded.last_seen_at)
-			returning f.first_seen_at = :at as is_new`,
-			{ at, rows: JSON.stringify([...rowsIn.values()]) }
-		);
-		for (const r of rows) {
-			if (r.is_new) opened += 1;
-			else stillOpen += 1;
-		}
-	}
+	// One row per key, the last one named (as storeFindings keeps it).
+	const rowsIn = findingRows(machines);
+	const { opened, stillOpen } = await upsertFindingRows(trx, rowsIn, checkedAt);
 	const resolved = await trx('findings')
 		.whereIn(
 			'machine_id',

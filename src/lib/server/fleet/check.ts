@@ -6,6 +6,9 @@ import { toMachineRecord } from '../offsets/machine-state';
 import type { ShopInfo } from '../shops/queries';
 import { readbackHours } from '../readbacks/findings';
 import { findingsOfMachines, storeFindingsMany } from './check-batch';
+import { findingRowKey, findingRows, subjectLabel, upsertFindingRows } from './finding-rows';
+
+export { findingRowKey, subjectLabel };
 
 /**
  * The background offset check of one shop (nightly, or "Check now"): the engine's `checkOffsets` (through
@@ -44,10 +47,6 @@ export interface CheckSummary {
 	stillOpen: number;
 	resolved: number;
 }
-
-/** A finding's row key in the shop: machine first, since the engine's key is per machine. */
-export const findingRowKey = (machineId: number, f: Pick<Finding, 'key'>) =>
-	`m${machineId}|${f.key}`;
 
 export async function runShopCheck(
 	shop: ShopInfo,
@@ -145,29 +144,6 @@ export async function markCheckFailed(
 	);
 }
 
-/** What a finding is about, as a machinist reads it: "H3", "G54", "Setup Aluminium bracket · G54". */
-export function subjectLabel(f: Finding, setupNames: Map<string, string> = new Map()): string {
-	const s = f.subject;
-	switch (s.type) {
-		case 'machine':
-			return 'Whole machine';
-		case 'fixture':
-			return s.register;
-		case 'tool':
-			return `H${s.h}`;
-		case 'setup':
-			return [
-				`Setup ${(s.id && setupNames.get(s.id)) ?? s.id ?? ''}`.trim(),
-				s.register,
-				s.h ? `H${s.h}` : undefined
-			]
-				.filter(Boolean)
-				.join(' · ');
-		case 'program-line':
-			return `Line ${s.line}`;
-	}
-}
-
 /** How findings no longer found get resolved: by a check, or by a write in a request. */
 export interface ResolveNote {
 	/** "no longer found by the check at …" or "resolved by the new reading of H3 at 10:41". */
@@ -193,50 +169,9 @@ export async function storeFindings(
 	onlyKinds?: readonly string[]
 ): Promise<{ opened: number; stillOpen: number; resolved: number }> {
 	// The engine may name one problem twice (e.g. two setups sharing a pair): one row per key.
-	const unique = [...new Map(findings.map((f) => [findingRowKey(machineId, f), f])).entries()];
-	let opened = 0;
-	let stillOpen = 0;
-	if (unique.length > 0) {
-		const { rows } = await trx.raw(
-			`insert into findings as f (key, machine_id, kind, severity, subject_type, subject, message,
-				status, first_seen_at, last_seen_at, previous_finding_id)
-			select x.key, :machineId, x.kind, x.severity, x.subject_type, x.subject, x.message,
-				'open', :at, :at,
-				(select p.id from findings p where p.key = x.key and p.status = 'resolved'
-					order by p.resolved_at desc nulls last, p.id desc limit 1)
-			from jsonb_to_recordset(cast(:rows as jsonb)) as x(key text, kind text, severity text,
-				subject_type text, subject text, message text)
-			-- An older check retried late must not bring back what was resolved after it looked.
-			where exists (select 1 from findings l where l.key = x.key and l.status <> 'resolved')
-				or not exists (select 1 from findings r where r.key = x.key and r.status = 'resolved'
-					and r.resolved_at >= :at)
-			on conflict (key) where status <> 'resolved' do update set
-				severity = excluded.severity,
-				subject = excluded.subject,
-				message = excluded.message,
-				last_seen_at = greatest(f.last_seen_at, excluded.last_seen_at)
-			returning f.first_seen_at = :at as is_new`,
-			{
-				machineId,
-				at: checkedAt.toISOString(),
-				rows: JSON.stringify(
-					unique.map(([key, f]) => ({
-						key,
-						kind: f.kind,
-						severity: f.severity,
-						subject_type: f.subject.type,
-						subject: subjectLabel(f, setupNames),
-						message: f.message
-					}))
-				)
-			}
-		);
-		for (const r of rows) {
-			if (r.is_new) opened += 1;
-			else stillOpen += 1;
-		}
-	}
-	const found = unique.map(([key]) => key);
+	const rows = findingRows([{ machineId, findings, setupNames }]);
+	const { opened, stillOpen } = await upsertFindingRows(trx, rows, checkedAt);
+	const found = [...rows.keys()];
 	const resolved = await trx('findings')
 		.where({ machine_id: machineId })
 		.whereNot('status', 'resolved')

@@ -17,6 +17,7 @@ import {
 	type ReadbackComparison,
 	type ReadbackValues
 } from '$lib/offsets';
+import { TOOL_COMPONENT_KEY, type ToolComponent } from '$lib/schemas/components';
 import type { ReadbackRequest } from '$lib/schemas/readback';
 import { audit } from '../audit';
 import {
@@ -162,8 +163,8 @@ export async function recordReadback(
 		history: { ...history, components: componentHistory },
 		...(comps.length > 0 ? { expectedComponents: expectedComponentsOf(comps) } : {})
 	});
-	const componentVersion = new Map(
-		comps.map((c) => [`${c.register}|${c.component}`, c.versionId] as const)
+	const componentVersion = new Map<string, number>(
+		comps.map((c) => [`${c.register}|${c.component}`, c.versionId])
 	);
 
 	const [rb] = await trx('readbacks')
@@ -184,18 +185,22 @@ export async function recordReadback(
 		.returning(['id', 'taken_at']);
 	const versionOf = new Map(offsets.map((o) => [`${o.kind}|${o.register}`, o.offsetVersionId]));
 	const kindOf = (section: 'work' | 'tools') => (section === 'work' ? 'work' : 'tool');
+	/** The version a compared value stands against: a component's, or the Z/length register's. */
+	const versionIds = (o: { component?: string; section: 'work' | 'tools'; register: string }) => ({
+		offset_version_id: o.component
+			? null
+			: (versionOf.get(`${kindOf(o.section)}|${o.register}`) ?? null),
+		component_version_id: o.component
+			? (componentVersion.get(`${o.register}|${o.component}`) ?? null)
+			: null
+	});
 	const rows: Record<string, unknown>[] = [
 		...comparison.rows.map((r) => ({
 			register_kind: r.component ?? kindOf(r.section),
 			register: r.register,
 			value: r.actual,
 			expected: r.expected,
-			offset_version_id: r.component
-				? null
-				: (versionOf.get(`${kindOf(r.section)}|${r.register}`) ?? null),
-			component_version_id: r.component
-				? (componentVersion.get(`${r.register}|${r.component}`) ?? null)
-				: null,
+			...versionIds(r),
 			status: r.status,
 			causes: JSON.stringify(r.causes),
 			no_point_text: r.noPoint?.text ?? null
@@ -213,12 +218,7 @@ export async function recordReadback(
 			register_kind: o.component ?? kindOf(o.section),
 			register: o.register,
 			expected: o.value,
-			offset_version_id: o.component
-				? null
-				: (versionOf.get(`${kindOf(o.section)}|${o.register}`) ?? null),
-			component_version_id: o.component
-				? (componentVersion.get(`${o.register}|${o.component}`) ?? null)
-				: null,
+			...versionIds(o),
 			status: 'only-datumkeep'
 		})),
 		...Object.entries(actual.wear ?? {}).map(([h, value]) => ({
@@ -271,12 +271,7 @@ function expectedComponentsOf(comps: CurrentComponent[]): ExpectedComponents {
 		if (c.kind === 'work' && (c.component === 'x' || c.component === 'y'))
 			out.work[c.register] = { ...out.work[c.register], [c.component]: c.value };
 		else if (c.kind === 'tool') {
-			const key =
-				c.component === 'radius'
-					? 'radius'
-					: c.component === 'length-wear'
-						? 'lengthWear'
-						: 'radiusWear';
+			const key = TOOL_COMPONENT_KEY[c.component as ToolComponent];
 			out.tools[c.register] = { ...out.tools[c.register], [key]: c.value };
 		}
 	}

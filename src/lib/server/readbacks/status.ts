@@ -52,8 +52,19 @@ export async function machineVerification(
 	trx: Knex.Transaction,
 	machineId: number
 ): Promise<RegisterVerification[]> {
+	return (await verificationRows(trx, [machineId])).map(verificationRowFrom);
+}
+
+/**
+ * The current offsets of some machines with their newest comparison (rows for
+ * verificationRowFrom), by machine, then Z registers before X/Y/radius/wear, then register.
+ */
+export async function verificationRows(
+	trx: Knex.Transaction,
+	machineIds: number[]
+): Promise<Record<string, unknown>[]> {
 	const { rows } = await trx.raw(
-		`select c.register_kind, c.register, c.offset_version_id, c.value, c.created_at,
+		`select c.machine_id, c.register_kind, c.register, c.offset_version_id, c.value, c.created_at,
 			v.status, v.offset_version_id as compared_version, v.readback_id, v.value as control_value,
 			v.causes,
 			r.taken_at as readback_at
@@ -61,11 +72,11 @@ export async function machineVerification(
 		left join (${LAST_COMPARED_SQL}) v
 			on v.machine_id = c.machine_id and v.register_kind = c.register_kind and v.register = c.register
 		left join readbacks r on r.id = v.readback_id
-		where c.machine_id = :machineId
-		order by c.register_kind desc, c.register`,
-		{ machineId }
+		where c.machine_id = any(:ids)
+		order by c.machine_id, c.register_kind desc, c.register`,
+		{ ids: machineIds }
 	);
-	return rows.map(verificationRowFrom);
+	return rows;
 }
 
 /** A row of machineVerification's query as a RegisterVerification. */
